@@ -1,0 +1,79 @@
+// Entry point of the `lodestone` command: parses, dispatches, reports once.
+#include <fmt/format.h>
+
+#include <cstdio>
+#include <vector>
+
+#include "cli/command.hpp"
+#include "lodestone/runtime.hpp"
+#include "support/collective.hpp"
+
+namespace lodestone::cli {
+
+void print_once(MPI_Comm comm, const std::string& text) {
+  if (comm_rank(comm) == 0) {
+    std::fputs(text.c_str(), stdout);
+    std::fflush(stdout);
+  }
+}
+
+void print_error_once(MPI_Comm comm, const std::string& text) {
+  if (comm_rank(comm) == 0) {
+    std::fprintf(stderr, "lodestone: error: %s\n", text.c_str());
+    std::fflush(stderr);
+  }
+}
+
+}  // namespace lodestone::cli
+
+int main(int argc, char** argv) {
+  using namespace lodestone;
+  // PETSc options (e.g. -log_view) follow a lone "--petsc" marker; the rest is ours.
+  std::vector<char*> ours, petsc{argv[0]};
+  bool in_petsc = false;
+  for (int i = 0; i < argc; ++i) {
+    std::string a = argv[i];
+    if (a == "--petsc") { in_petsc = true; continue; }
+    (in_petsc ? petsc : ours).push_back(argv[i]);
+  }
+  int pargc = static_cast<int>(petsc.size());
+  char** pargv = petsc.data();
+  Runtime runtime(&pargc, &pargv);
+  if (!runtime.ok()) {
+    std::fprintf(stderr, "lodestone: error: could not start MPI/PETSc\n");
+    return 1;
+  }
+  MPI_Comm comm = MPI_COMM_WORLD;
+
+  CLI::App app{"Lodestone: a few dominant eigenpairs of very large matrices, on MPI.", "lodestone"};
+  app.require_subcommand(1);
+  app.set_version_flag("--version", "lodestone 0.1.0");
+  std::vector<cli::Command> commands = {
+      cli::make_generate_command(app),
+      cli::make_inspect_command(app),
+  };
+  try {
+    app.parse(static_cast<int>(ours.size()), ours.data());
+  } catch (const CLI::CallForHelp& e) {
+    if (comm_rank(comm) == 0) app.exit(e);
+    return 0;
+  } catch (const CLI::CallForAllHelp& e) {
+    if (comm_rank(comm) == 0) app.exit(e);
+    return 0;
+  } catch (const CLI::CallForVersion& e) {
+    if (comm_rank(comm) == 0) app.exit(e);
+    return 0;
+  } catch (const CLI::ParseError& e) {
+    // Same arguments on every rank, so every rank fails the same way.
+    cli::print_error_once(comm, fmt::format("{} (see 'lodestone --help')", e.what()));
+    return 2;
+  }
+  for (auto& c : commands) {
+    if (c.app->parsed()) {
+      Status s = c.run(comm);
+      if (!s) cli::print_error_once(comm, s.message());
+      return s.exit_code();
+    }
+  }
+  return 2;
+}

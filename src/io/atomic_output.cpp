@@ -1,0 +1,98 @@
+// Temporary-name-then-rename output files (io/atomic_output.hpp).
+#include "io/atomic_output.hpp"
+
+#include <fcntl.h>
+#include <fmt/format.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <cstring>
+#include <filesystem>
+#include <random>
+
+#include "support/collective.hpp"
+
+namespace fs = std::filesystem;
+
+namespace lodestone::io {
+
+bool same_file(const std::string& a, const std::string& b) {
+  std::error_code ec;
+  if (fs::exists(a, ec) && fs::exists(b, ec)) return fs::equivalent(a, b, ec);
+  return fs::weakly_canonical(a, ec) == fs::weakly_canonical(b, ec);
+}
+
+static Status fsync_path(const std::string& path, bool directory) {
+  int fd = ::open(path.c_str(), directory ? O_RDONLY | O_DIRECTORY : O_RDONLY);
+  if (fd < 0) return Status::input(fmt::format("{}: cannot open for sync: {}", path, std::strerror(errno)));
+  int rc = ::fsync(fd);
+  int err = errno;
+  ::close(fd);
+  if (rc != 0 && !directory) return Status::input(fmt::format("{}: fsync failed: {}", path, std::strerror(err)));
+  return Status::ok();
+}
+
+Result<AtomicOutput> AtomicOutput::begin(MPI_Comm comm, const std::string& final_path,
+                                         const std::vector<std::string>& inputs) {
+  Status s;
+  std::string temp;
+  if (comm_rank(comm) == 0) {
+    fs::path p(final_path);
+    fs::path dir = p.has_parent_path() ? p.parent_path() : fs::path(".");
+    std::error_code ec;
+    for (const auto& in : inputs)
+      if (same_file(in, final_path)) s = Status::input(fmt::format("{}: the output would overwrite an input; choose another name", final_path));
+    if (s && (p.filename().empty() || fs::is_directory(p, ec)))
+      s = Status::input(fmt::format("{}: output path is a directory", final_path));
+    if (s && !fs::is_directory(dir, ec))
+      s = Status::input(fmt::format("{}: directory '{}' does not exist", final_path, dir.string()));
+    if (s && ::access(dir.c_str(), W_OK) != 0)
+      s = Status::input(fmt::format("{}: directory '{}' is not writable", final_path, dir.string()));
+    if (s) {
+      std::random_device rd;
+      temp = (dir / fmt::format(".{}.partial-{}-{:08x}", p.filename().string(), ::getpid(), rd())).string();
+    }
+  }
+  LODESTONE_TRY(agree(comm, s));
+  int len = static_cast<int>(temp.size());
+  MPI_Bcast(&len, 1, MPI_INT, 0, comm);
+  temp.resize(static_cast<std::size_t>(len));
+  MPI_Bcast(temp.data(), len, MPI_CHAR, 0, comm);
+  return AtomicOutput(comm, final_path, temp);
+}
+
+AtomicOutput::AtomicOutput(AtomicOutput&& o) noexcept
+    : comm_(o.comm_), final_(std::move(o.final_)), temp_(std::move(o.temp_)), done_(o.done_) {
+  o.done_ = true;
+}
+
+AtomicOutput::~AtomicOutput() {
+  if (done_ || comm_ == MPI_COMM_NULL) return;
+  int finalized = 0;
+  MPI_Finalized(&finalized);
+  int rank = 0;
+  if (!finalized) MPI_Comm_rank(comm_, &rank);
+  if (rank == 0) {
+    std::error_code ec;
+    fs::remove(temp_, ec);
+  }
+}
+
+Status AtomicOutput::commit() {
+  MPI_Barrier(comm_);
+  Status s;
+  if (comm_rank(comm_) == 0) {
+    s = fsync_path(temp_, false);
+    if (s && std::rename(temp_.c_str(), final_.c_str()) != 0)
+      s = Status::input(fmt::format("{}: cannot rename the finished file into place: {}", final_, std::strerror(errno)));
+    if (s) {
+      fs::path dir = fs::path(final_).has_parent_path() ? fs::path(final_).parent_path() : fs::path(".");
+      fsync_path(dir.string(), true);
+    }
+  }
+  s = agree(comm_, s);
+  done_ = s.is_ok();
+  return s;
+}
+
+}  // namespace lodestone::io

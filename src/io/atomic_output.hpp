@@ -1,0 +1,46 @@
+// Writing a file so that it is never half-written under its final name.
+//
+// begin() picks a temporary name in the same directory as the final path (so
+// the rename stays on one file system) and refuses an output that is one of the
+// inputs. The caller writes the temporary file collectively and closes it;
+// commit() then has rank 0 fsync it, rename it over the final name and fsync
+// the directory. If commit() is never reached, the temporary file is removed.
+#pragma once
+
+#include <mpi.h>
+
+#include <string>
+#include <vector>
+
+#include "lodestone/status.hpp"
+
+namespace lodestone::io {
+
+class AtomicOutput {
+ public:
+  // Collective. `inputs` are paths the output must not overwrite.
+  static Result<AtomicOutput> begin(MPI_Comm comm, const std::string& final_path,
+                                    const std::vector<std::string>& inputs = {});
+  AtomicOutput(AtomicOutput&& o) noexcept;
+  AtomicOutput& operator=(AtomicOutput&&) = delete;
+  AtomicOutput(const AtomicOutput&) = delete;
+  ~AtomicOutput();
+
+  const std::string& temp_path() const { return temp_; }
+  const std::string& final_path() const { return final_; }
+  // Collective; call after every rank has closed the temporary file.
+  Status commit();
+
+ private:
+  AtomicOutput(MPI_Comm comm, std::string final_path, std::string temp)
+      : comm_(comm), final_(std::move(final_path)), temp_(std::move(temp)) {}
+  MPI_Comm comm_ = MPI_COMM_NULL;
+  std::string final_;
+  std::string temp_;
+  bool done_ = false;
+};
+
+// True if a and b name the same existing file, or the same path.
+bool same_file(const std::string& a, const std::string& b);
+
+}  // namespace lodestone::io

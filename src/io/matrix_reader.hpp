@@ -1,0 +1,37 @@
+// Internals of reading a matrix in the file layout: shared between the CSR and
+// dense readers and the load entry point (api/matrix.cpp).
+#pragma once
+
+#include <hdf5.h>
+#include <mpi.h>
+
+#include <string>
+
+#include "lodestone/matrix.hpp"
+
+namespace lodestone::io {
+
+// The validated group attributes of a matrix.
+struct MatrixHeader {
+  Layout layout = Layout::csr;
+  std::int64_t rows = 0;
+  std::int64_t cols = 0;
+  bool symmetric = false;
+  std::string file;   // for messages
+  std::string group;  // for messages
+};
+
+// Reads and checks the attributes of the group (same result on every rank).
+Result<MatrixHeader> read_header(hid_t group, const std::string& file, const std::string& group_path);
+
+// Collective readers; each validates its datasets and builds the PETSc matrix.
+Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& header, const LoadOptions& options);
+Result<Matrix> read_dense(MPI_Comm comm, hid_t group, const MatrixHeader& header, const LoadOptions& options);
+
+// Collective. Checks |a_ij - a_ji| <= tol * max|a| and names the first failing row.
+Status check_symmetric(Mat a, double tolerance, const std::string& where);
+
+// The largest row or column count this build's PETSc index type can hold.
+std::int64_t max_index();
+
+}  // namespace lodestone::io

@@ -1,0 +1,117 @@
+// Reading matrices back from the file layout on any rank count.
+#include <gtest/gtest.h>
+#include <petscmat.h>
+
+#include <cmath>
+#include <filesystem>
+
+#include "io/generators.hpp"
+#include "io/partition.hpp"
+#include "io/matrix_writer.hpp"
+#include "lodestone/matrix.hpp"
+#include "support/collective.hpp"
+#include "test_util.hpp"
+
+using namespace lodestone;
+
+TEST(MatrixRead, Laplace2dRoundTrip) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t nx = 7, ny = 5, n = nx * ny;
+  std::string path = test::temp_path(comm, "lap2d.h5");
+  auto rows = io::generate_laplace2d(comm, nx, ny);
+  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", n, true, rows).is_ok());
+  auto m = Matrix::load(comm, path);
+  ASSERT_TRUE(m.is_ok()) << m.status().message();
+  // 5-point stencil on an nx x ny grid: 5*nx*ny - 2*nx - 2*ny nonzeros
+  // (closed form: every interior link counted from both ends; common practice).
+  EXPECT_EQ(m->info().nnz, 5 * nx * ny - 2 * nx - 2 * ny);
+  EXPECT_EQ(m->info().rows, n);
+  EXPECT_TRUE(m->info().symmetric);
+  // A times the all-ones vector: 4 minus the number of neighbours of each point.
+  Vec x, y;
+  MatCreateVecs(m->petsc(), &x, &y);
+  VecSet(x, 1.0);
+  MatMult(m->petsc(), x, y);
+  PetscReal sum = 0;
+  VecSum(y, &sum);
+  // Sum over the grid of (4 - neighbours) = number of boundary links = 2*nx + 2*ny.
+  EXPECT_DOUBLE_EQ(sum, 2.0 * nx + 2.0 * ny);
+  VecDestroy(&x);
+  VecDestroy(&y);
+}
+
+TEST(MatrixRead, PartitionBalancesNonzeros) {
+  // Row 0 holds half the nonzeros: a power-law-like first row.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 400;
+  io::CsrRows rows;
+  auto r = even_split(n, comm_rank(comm), comm_size(comm));
+  rows.row_begin = r.begin;
+  for (std::int64_t i = r.begin; i < r.end; ++i) {
+    if (i == 0)
+      for (std::int64_t c = 0; c < n; ++c) rows.columns.push_back(c), rows.values.push_back(1.0);
+    else
+      rows.columns.push_back(i), rows.values.push_back(2.0);
+    rows.offsets.push_back(static_cast<std::int64_t>(rows.columns.size()));
+  }
+  std::string path = test::temp_path(comm, "heavy.h5");
+  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", n, false, rows).is_ok());
+  auto m = Matrix::load(comm, path);
+  ASSERT_TRUE(m.is_ok()) << m.status().message();
+  const std::int64_t mine = m->info().row_end - m->info().row_begin;
+  const int p = comm_size(comm);
+  if (p > 1 && comm_rank(comm) == 0) {
+    // Rank 0 holds the heavy row, so it gets far fewer rows than n/p.
+    EXPECT_LT(mine, n / p);
+  }
+  EXPECT_EQ(sum_all(comm, mine), n);
+}
+
+TEST(MatrixRead, DenseMatchesCsrFingerprint) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 12;
+  auto csr = io::generate_laplace1d(comm, n);
+  std::string a = test::temp_path(comm, "l1.h5"), b = test::temp_path(comm, "l1dense.h5");
+  ASSERT_TRUE(io::write_csr_file(comm, a, "/matrix", n, true, csr).is_ok());
+  std::vector<double> dense(static_cast<std::size_t>(csr.local_rows() * n), 0.0);
+  for (std::int64_t i = 0; i < csr.local_rows(); ++i)
+    for (auto k = csr.offsets[i]; k < csr.offsets[i + 1]; ++k)
+      dense[static_cast<std::size_t>(i * n + csr.columns[k])] = csr.values[k];
+  ASSERT_TRUE(io::write_dense_file(comm, b, "/matrix", n, true, csr.row_begin, csr.local_rows(), dense).is_ok());
+  auto ma = Matrix::load(comm, a);
+  auto mb = Matrix::load(comm, b);
+  ASSERT_TRUE(ma.is_ok()) << ma.status().message();
+  ASSERT_TRUE(mb.is_ok()) << mb.status().message();
+  EXPECT_EQ(mb->info().layout, Layout::dense);
+  EXPECT_EQ(ma->info().fingerprint, mb->info().fingerprint);
+  auto wrapped = Matrix::wrap(mb->petsc(), true);
+  ASSERT_TRUE(wrapped.is_ok()) << wrapped.status().message();
+  EXPECT_EQ(wrapped->info().fingerprint, ma->info().fingerprint);
+}
+
+TEST(MatrixRead, SmallChunksGiveTheSameMatrix) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  auto rows = io::generate_laplace2d(comm, 9, 4);
+  std::string path = test::temp_path(comm, "chunks.h5");
+  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", 36, true, rows).is_ok());
+  LoadOptions small;
+  small.chunk_entries = 7;  // forces rows to straddle chunk boundaries
+  auto a = Matrix::load(comm, path);
+  auto b = Matrix::load(comm, path, small);
+  ASSERT_TRUE(a.is_ok() && b.is_ok());
+  EXPECT_EQ(a->info().fingerprint, b->info().fingerprint);
+  PetscBool eq = PETSC_FALSE;
+  MatEqual(a->petsc(), b->petsc(), &eq);
+  EXPECT_TRUE(eq);
+}
+
+TEST(MatrixRead, OutputNeverOverwritesInput) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  auto rows = io::generate_laplace1d(comm, 10);
+  std::string path = test::temp_path(comm, "keep.h5");
+  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", 10, true, rows).is_ok());
+  Status s = io::write_csr_file(comm, path, "/matrix", 10, true, rows, {path});
+  EXPECT_FALSE(s.is_ok());
+  EXPECT_NE(s.message().find("overwrite an input"), std::string::npos);
+  EXPECT_TRUE(Matrix::load(comm, path).is_ok());
+}
