@@ -38,7 +38,7 @@ CsrRows generate_walk(MPI_Comm comm, const WalkOptions& o) {
   const int rank = comm_rank(comm), size = comm_size(comm);
   const RowRange mine = even_split(o.n, rank, size);
   EntryRouter router(comm, o.n);
-  const std::int64_t round = std::max<std::int64_t>(o.round_entries, 1);
+  const std::int64_t round = bounded_round(comm, o.round_entries);
   // The damped mass stays in place: (1-d) on the diagonal of this rank's rows.
   for (std::int64_t i = mine.begin; i < mine.end; ++i)
     if (o.damping != 1.0) router.received().push_back({i, i, 1.0 - o.damping});

@@ -2,6 +2,8 @@
 #include "io/mm_entries.hpp"
 
 #include <algorithm>
+#include <climits>
+#include <cstdint>
 
 #include "support/collective.hpp"
 
@@ -49,6 +51,11 @@ void EntryRouter::exchange() {
   received_.resize(old + total);
   MPI_Alltoallv(send.data(), send_counts.data(), send_displs.data(), type_, received_.data() + old,
                 recv_counts.data(), recv_displs.data(), type_, comm_);
+}
+
+std::int64_t bounded_round(MPI_Comm comm, std::int64_t wanted) {
+  const std::int64_t limit = std::max<std::int64_t>(1, (std::int64_t{INT32_MAX} / 4) / comm_size(comm));
+  return std::clamp<std::int64_t>(wanted, 1, limit);
 }
 
 CsrRows assemble_rows(RowRange range, std::vector<mm::Entry>& entries) {

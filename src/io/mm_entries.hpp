@@ -51,6 +51,11 @@ class EntryRouter {
   std::int64_t pending_ = 0;
 };
 
+// The entries per rank and round to use instead of `wanted`: at least 1, and
+// small enough that one rank receiving everything sent in a round (each entry
+// possibly mirrored) still fits MPI's int counts.
+std::int64_t bounded_round(MPI_Comm comm, std::int64_t wanted);
+
 // Sorts the entries (all in rows [range.begin, range.end)) by row and column,
 // sums duplicates, and returns them as CSR rows. Empties `entries`.
 CsrRows assemble_rows(RowRange range, std::vector<mm::Entry>& entries);

@@ -183,7 +183,7 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
 
   EntryRouter router(comm, n);
   LineReader reader(file->fd(), share->begin, share->end, options.chunk_bytes);
-  const std::int64_t round = std::max<std::int64_t>(options.round_entries, 1);
+  const std::int64_t round = bounded_round(comm, options.round_entries);
   std::int64_t data_lines = 0;
 
   if (h.banner.format == mm::Format::coordinate) {
@@ -228,11 +228,12 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
 
 Result<MatrixMarketRows> import_matrix_market(MPI_Comm comm, const std::string& input, const std::string& output,
                                               const ImportOptions& options) {
-  // Refuse to overwrite the input before spending time on reading it.
-  Status s;
-  if (comm_rank(comm) == 0 && same_file(input, output))
-    s = Status::input(fmt::format("{}: the output would overwrite an input; choose another name", output));
-  LODESTONE_TRY(agree(comm, s));
+  // Check the output path (not the input, directory writable) before spending
+  // time on reading; the write itself makes its own temporary name later.
+  {
+    auto early = AtomicOutput::begin(comm, output, {input});
+    if (!early) return early.status();
+  }
   auto m = read_matrix_market(comm, input, options);
   if (!m) return m.status();
   LODESTONE_TRY(write_csr_file(comm, output, options.group, m->n, m->symmetric, m->rows, {input}));
