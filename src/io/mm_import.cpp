@@ -223,6 +223,9 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
   out.file_entries = sum_all(comm, data_lines);
   out.symmetric = h.banner.symmetry == mm::Symmetry::symmetric;
   out.rows = assemble_rows(even_split(n, rank, size), router.received());
+  if (sum_all(comm, out.rows.offsets.back()) == 0)
+    return Status::input(fmt::format("{}: line {}: the matrix has no stored entries (an all-zero matrix has no "
+                                     "dominant eigenpairs to find)", path, h.size_line));
   return out;
 }
 
