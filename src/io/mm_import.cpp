@@ -139,14 +139,11 @@ Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, E
 }
 
 // Pass one of the array format: data lines in this rank's share.
-Result<std::int64_t> count_data_lines(const mm::InputFile& file, mm::ByteRange range, std::size_t chunk,
-                                      std::int64_t& lines) {
+Result<std::int64_t> count_data_lines(const mm::InputFile& file, mm::ByteRange range, std::size_t chunk) {
   LineReader r(file.fd(), range.begin, range.end, chunk);
   std::string_view line;
   std::int64_t data = 0;
-  lines = 0;
   while (r.next(line)) {
-    ++lines;
     if (!mm::is_skippable(line)) ++data;
   }
   if (!r.status()) return r.status();
@@ -198,8 +195,7 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
     const std::int64_t found = sum_all(comm, data_lines);
     if (found != h.size.entries) return Status::input(count_message(path, h, found));
   } else {
-    std::int64_t lines = 0;
-    auto mine = count_data_lines(*file, *share, options.chunk_bytes, lines);
+    auto mine = count_data_lines(*file, *share, options.chunk_bytes);
     s = mine ? Status::ok() : Status::input(fmt::format("{}: {}", path, mine.status().message()));
     LODESTONE_TRY(agree(comm, s));
     const std::int64_t found = sum_all(comm, *mine);
