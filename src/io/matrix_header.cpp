@@ -1,14 +1,28 @@
 // Reading and checking the group attributes of a matrix file.
 #include <fmt/format.h>
 #include <petscsys.h>
+#include <unistd.h>
+
+#include <limits>
 
 #include "io/h5.hpp"
 #include "io/layout.hpp"
 #include "io/matrix_reader.hpp"
+#include "support/format.hpp"
 
 namespace lodestone::io {
 
 std::int64_t max_index() { return static_cast<std::int64_t>(PETSC_MAX_INT); }
+
+Status fits_in_memory(const MatrixHeader& h, double bytes, int ranks) {
+  const long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGESIZE);
+  const double limit = pages > 0 && page > 0 ? static_cast<double>(pages) * static_cast<double>(page)
+                                             : std::numeric_limits<double>::infinity();
+  if (bytes <= limit) return Status::ok();
+  return Status::input(fmt::format("{}: group '{}': loading needs about {} on one rank with {} ranks, more than this "
+                                   "machine's {} of memory; use more ranks",
+                                   h.file, h.group, human_bytes(bytes), ranks, human_bytes(limit)));
+}
 
 Result<MatrixHeader> read_header(hid_t group, const std::string& file, const std::string& group_path) {
   MatrixHeader h;
