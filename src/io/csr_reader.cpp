@@ -113,14 +113,27 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
   CsrDatasets& ds = *opened;
   const std::int64_t n = h.rows;
   const std::int64_t chunk = std::max<std::int64_t>(1, options.chunk_entries);
+  const int node_ranks = ranks_on_node(comm);
+  auto named = [&](const Status& st) { return st ? st : Status::input(fmt::format("{}: {}", h.file, st.message())); };
+  // Memory this rank needs for `rows` rows holding `entries` entries: offsets and
+  // preallocation counts, the chunk buffers, and PETSc's own copy (values,
+  // column indices, row pointers).
+  const double idx = sizeof(PetscInt);
+  auto share = [&](double rows, double entries) {
+    return rows * (8.0 + 4.0 * idx) + std::min(static_cast<double>(chunk), entries) * (16.0 + idx) + entries * (8.0 + idx);
+  };
+
+  // Step 0: the average share, from the dataset lengths alone, before anything
+  // is allocated or read.
+  LODESTONE_TRY(agree(comm, fits_in_memory(h, share(static_cast<double>(n) / size, static_cast<double>(ds.nnz) / size),
+                                           node_ranks)));
 
   // Step 1: even slice of offsets, validation and balanced boundaries.
   RowRange even = even_split(n, rank, size);
   std::vector<std::int64_t> slice;
-  Status s = fits_in_memory(h, 8.0 * static_cast<double>(even.size() + 1), size);
-  if (s) s = allocate(h, [&] { slice.resize(static_cast<std::size_t>(even.size() + 1)); });
+  Status s = allocate(h, [&] { slice.resize(static_cast<std::size_t>(even.size() + 1)); });
   LODESTONE_TRY(agree(comm, s));
-  s = h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, even.begin, even.size() + 1, slice.data());
+  s = named(h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, even.begin, even.size() + 1, slice.data()));
   if (s) s = check_offsets_slice(h, even, slice, ds.nnz);
   LODESTONE_TRY(agree(comm, s));
   std::vector<std::int64_t> bounds = balanced_split(comm, even, slice, n, ds.nnz);
@@ -130,7 +143,7 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
 
   std::vector<std::int64_t> off;
   LODESTONE_TRY(agree(comm, allocate(h, [&] { off.resize(static_cast<std::size_t>(m + 1)); })));
-  LODESTONE_TRY(agree(comm, h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, mine.begin, m + 1, off.data())));
+  LODESTONE_TRY(agree(comm, named(h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, mine.begin, m + 1, off.data()))));
   const std::int64_t k_begin = off.front(), k_end = off.back();
   const std::int64_t local_nnz = k_end - k_begin;
   const std::int64_t buffered = std::min(chunk, std::max<std::int64_t>(local_nnz, 1));
@@ -138,12 +151,8 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
   if (local_nnz > max_index())
     width = Status::input(fmt::format("{}: {} nonzeros on one rank exceed this build's index range; use more ranks or "
                                       "rebuild against petsc64", h.file, local_nnz));
-  // This rank's share: offsets and preallocation counts, the chunk buffers, and
-  // PETSc's own copy (values, column indices, row pointers).
-  const double idx = sizeof(PetscInt);
-  if (width)
-    width = fits_in_memory(h, static_cast<double>(m) * (8.0 + 4.0 * idx) + static_cast<double>(buffered) * (16.0 + idx) +
-                                  static_cast<double>(local_nnz) * (8.0 + idx), size);
+  // This rank's own share, now that the balanced boundaries are known.
+  if (width) width = fits_in_memory(h, share(static_cast<double>(m), static_cast<double>(local_nnz)), node_ranks);
   LODESTONE_TRY(agree(comm, width));
 
   const std::int64_t rounds = max_all(comm, (local_nnz + chunk - 1) / chunk);
@@ -167,7 +176,7 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
       const std::int64_t k0 = k_begin + round * chunk;
       const std::int64_t count = rs ? std::clamp<std::int64_t>(k_end - k0, 0, chunk) : 0;
       Status read = h5::read_range(ds.columns.get(), H5T_NATIVE_INT64, count ? k0 : 0, count, cols.data());
-      if (rs && !read) rs = read;
+      if (rs && !read) rs = named(read);
       for (std::int64_t i = 0; rs && i < count; ++i) {
         const std::int64_t k = k0 + i;
         cur.seek(k);
@@ -227,8 +236,8 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
     const std::int64_t count = rs ? std::clamp<std::int64_t>(k_end - k0, 0, chunk) : 0;
     Status read = h5::read_range(ds.columns.get(), H5T_NATIVE_INT64, count ? k0 : 0, count, cols.data());
     Status vs = h5::read_range(ds.values.get(), H5T_NATIVE_DOUBLE, count ? k0 : 0, count, vals.data());
-    if (rs && !read) rs = read;
-    if (rs && !vs) rs = vs;
+    if (rs && !read) rs = named(read);
+    if (rs && !vs) rs = named(vs);
     for (std::int64_t i = 0; rs && i < count; ++i) {
       const double v = vals[static_cast<std::size_t>(i)];
       if (!std::isfinite(v)) {

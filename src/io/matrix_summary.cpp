@@ -84,6 +84,7 @@ Result<MatrixSummary> summarize_matrix(MPI_Comm comm, const std::string& path, c
     const std::int64_t count = std::clamp<std::int64_t>(even.end - b, 0, piece);
     buf.resize(static_cast<std::size_t>(count + 1));
     Status rs = h5::read_range(off.get(), H5T_NATIVE_INT64, count ? b : 0, count ? count + 1 : 0, buf.data());
+    if (!rs) rs = Status::input(fmt::format("{}: {}", path, rs.message()));
     LODESTONE_TRY(agree(comm, rs));
     for (std::int64_t i = 0; i < count; ++i) {
       const std::int64_t len = buf[static_cast<std::size_t>(i) + 1] - buf[static_cast<std::size_t>(i)];

@@ -160,6 +160,8 @@ case("rows_not_a_single_value", r"attribute 'rows' must be a single value")(
 case("symmetric_not_an_integer", r"attribute 'symmetric' must be an integer")(
     lambda path: csr_file(path, attrs={"symmetric": 1.0}))
 case("symmetric_is_2", r"symmetric is 2; expected 0 or 1")(lambda path: csr_file(path, attrs={"symmetric": 2}))
+case("symmetric_bool", r"attribute 'symmetric' must be an integer")(  # h5py stores numpy bools as an HDF5 enum
+    lambda path: csr_file(path, attrs={"symmetric": np.bool_(True)}))
 case("unknown_layout", r"layout is 'coo'")(lambda path: csr_file(path, attrs={"layout": "coo"}))
 case("format_version_2", r"format_version is 2")(lambda path: csr_file(path, attrs={"format_version": 2}))
 case("zero_rows", r"must be positive.*rows=0")(lambda path: csr_file(path, attrs={"rows": 0, "cols": 0}))
@@ -254,6 +256,31 @@ case("values_complex", r"values.*must hold floating-point")(
     lambda path: csr_file(path, data={"values": _A.data.astype(np.complex128)}))
 
 
+@case("values_damaged_chunk", r"dataset '/matrix/values'.*could not read")
+def _(path):
+    # gzip-compressed values whose stored chunk is overwritten with junk: the
+    # file opens, the shapes are right, and only reading the data fails.
+    csr_file(path, _random(30, 0.5, 3), data={"values": DROP})
+    a = _random(30, 0.5, 3)
+    a.sort_indices()
+    with h5py.File(path, "a") as f:
+        d = f["matrix"].create_dataset("values", data=a.data, chunks=(a.nnz,), compression="gzip")
+        info = d.id.get_chunk_info(0)
+    with open(path, "r+b") as f:
+        f.seek(info.byte_offset)
+        f.write(b"\xff" * info.size)
+
+
+@case("absurd_dense_size", r"loading needs about .* per rank")
+def _(path):
+    # A 2^30 x 2^30 dense matrix (8 EiB) whose values were never written: a
+    # chunked dataset takes no space in the file until written.
+    with h5py.File(path, "w") as f:
+        g = f.create_group("matrix")
+        put_attrs(g, {"format_version": 1, "layout": "dense", "rows": 2**30, "cols": 2**30})
+        g.create_dataset("values", shape=(2**30, 2**30), dtype=np.float64, chunks=(64, 64))
+
+
 # ----------------------------------------------------------------------------
 # Dense datasets.
 
@@ -320,6 +347,17 @@ valid("ok_dense", _DENSE)(lambda path: dense_file(path, _DENSE))
 valid("ok_dense_float32", _R32)(lambda path: dense_file(path, _R32, values=_R32.toarray()))
 valid("ok_no_symmetric_attribute", _R)(lambda path: csr_file(path, _R, attrs={"symmetric": DROP}))
 valid("ok_more_ranks_than_rows", _TWO, ranks=(3, 4))(lambda path: csr_file(path, _TWO, attrs={"symmetric": 1}))
+
+
+@valid("ok_compressed", _R)
+def _(path):
+    # gzip-compressed chunked datasets, as h5py users often write them.
+    csr_file(path, _R, data={"row_offsets": DROP, "column_indices": DROP, "values": DROP})
+    with h5py.File(path, "a") as f:
+        g = f["matrix"]
+        for key, value in (("row_offsets", _R.indptr.astype(np.int64)), ("column_indices", _R.indices.astype(np.int32)),
+                           ("values", _R.data)):
+            g.create_dataset(key, data=value, chunks=(8,), compression="gzip")
 
 
 @valid("ok_variable_length_strings", _R)
