@@ -167,11 +167,12 @@ void finish(Plan& p, const PlanRequest& r, const MachineModel& m, const MethodSh
   if (r.max_walltime > 0) {
     p.job_walltime = r.scheduler == Scheduler::local ? r.max_walltime : (r.max_walltime / 60) * 60;
     usable = static_cast<double>(p.job_walltime) - p.load_seconds - static_cast<double>(p.signal_margin);
-    p.checkpoint_interval = static_cast<std::int64_t>(std::clamp(usable / 4.0, 300.0, 1800.0));
+    // A quarter of a job, kept between 5 and 30 minutes, but at most half a job.
+    p.checkpoint_interval = static_cast<std::int64_t>(std::min(std::clamp(usable / 4.0, 300.0, 1800.0), usable / 2.0));
   } else {
     p.checkpoint_interval = 1800;
   }
-  p.checkpoint_interval = std::max<std::int64_t>(p.checkpoint_interval, static_cast<std::int64_t>(std::ceil(t_iter)));
+  p.checkpoint_interval = std::max<std::int64_t>({p.checkpoint_interval, static_cast<std::int64_t>(std::ceil(t_iter)), 1});
   auto solve_seconds = [&](double compute) {
     return compute + std::floor(compute / static_cast<double>(p.checkpoint_interval)) * p.checkpoint_seconds;
   };
