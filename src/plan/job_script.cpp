@@ -54,16 +54,25 @@ std::string comment_block(const Plan& p) {
 
 std::int64_t mebibytes(double bytes) { return static_cast<std::int64_t>(std::ceil(bytes / (1024.0 * 1024.0))); }
 
+// name='value'. A value holding $ or ` is meant literally; shellcheck is told so.
+std::string assign(const std::string& name, const std::string& value) {
+  std::string s;
+  if (value.find_first_of("$`") != std::string::npos)
+    s += "# The value below holds a literal $ or `, kept literal by the single quotes.\n"
+         "# shellcheck disable=SC2016\n";
+  return s + name + "=" + shell_quote(value) + "\n";
+}
+
 // Variables and the solver launch, shared by every scheduler.
 std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_budget, bool local) {
   std::string s;
   s += "set -u\n\n";
   s += "# What to run. Every value is single-quoted: nothing in it reaches the shell as code.\n";
-  s += fmt::format("lodestone={}\n", shell_quote(o.lodestone));
-  s += fmt::format("matrix={}\n", shell_quote(p.matrix_path));
-  s += fmt::format("group={}\n", shell_quote(p.group));
-  s += fmt::format("result={}\n", shell_quote(o.result_path));
-  s += fmt::format("checkpoint={}\n", shell_quote(o.checkpoint_path));
+  s += assign("lodestone", o.lodestone);
+  s += assign("matrix", p.matrix_path);
+  s += assign("group", p.group);
+  s += assign("result", o.result_path);
+  s += assign("checkpoint", o.checkpoint_path);
   s += fmt::format("pairs={}\n", p.pairs);
   s += fmt::format("method={}\n", shell_quote(p.method));
   s += fmt::format("ranks={}\n", p.ranks);
@@ -79,13 +88,12 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   s += "# the solver as USR1 (mpirun forwards USR1 to every rank; TERM would make it kill them),\n";
   s += "# and the solver checkpoints at its next iteration boundary and exits with status 3.\n";
   s += "solver_pid=''\n";
-  s += "stop_requested() {\n";
-  s += "  echo \"lodestone job: $1 received; asking the solver to checkpoint and stop\" >&2\n";
-  s += "  if [ -n \"$solver_pid\" ]; then kill -USR1 \"$solver_pid\" 2>/dev/null || true; fi\n";
-  s += "}\n";
-  s += "trap 'stop_requested USR1' USR1\n";
-  s += "trap 'stop_requested TERM' TERM\n";
-  if (local) s += "trap 'stop_requested INT' INT\n";
+  for (const char* sig : {"USR1", "TERM", "INT"}) {
+    if (!local && std::string(sig) == "INT") continue;
+    s += fmt::format("trap 'echo \"lodestone job: {0} received; asking the solver to checkpoint and stop\" >&2\n"
+                     "  if [ -n \"$solver_pid\" ]; then kill -USR1 \"$solver_pid\" 2>/dev/null || true; fi' {0}\n",
+                     sig);
+  }
   s += "\n";
   s += "# Run in the background and wait, so a trap runs as soon as a signal arrives.\n";
   s += "\"${launcher[@]}\" \"$lodestone\" \"${solve_args[@]}\" &\n";
@@ -106,20 +114,16 @@ std::string other_statuses() {
          "    echo \"lodestone job: finished; all $pairs pairs converged; results in $result\" >&2\n"
          "    exit 0 ;;\n"
          "  4)\n"
-         "    echo \"lodestone job: the matvec budget ran out before every pair converged; $result holds the converged \"\\\n"
-         "\"pairs. Not resubmitting.\" >&2\n"
+         "    echo \"lodestone job: the matvec budget ran out before every pair converged; $result holds the converged pairs. Not resubmitting.\" >&2\n"
          "    exit 4 ;;\n"
          "  1)\n"
-         "    echo \"lodestone job: the solver failed (status 1: bad input or a runtime error; see the messages above). \"\\\n"
-         "\"Not resubmitting.\" >&2\n"
+         "    echo \"lodestone job: the solver failed (status 1: bad input or a runtime error; see the messages above). Not resubmitting.\" >&2\n"
          "    exit 1 ;;\n"
          "  2)\n"
-         "    echo \"lodestone job: the solver refused its options (status 2); regenerate this script with 'lodestone plan'. \"\\\n"
-         "\"Not resubmitting.\" >&2\n"
+         "    echo \"lodestone job: the solver refused its options (status 2); regenerate this script with 'lodestone plan'. Not resubmitting.\" >&2\n"
          "    exit 2 ;;\n"
          "  *)\n"
-         "    echo \"lodestone job: the solver ended with status $status (killed by a signal, or mpirun failed). \"\\\n"
-         "\"Not resubmitting.\" >&2\n"
+         "    echo \"lodestone job: the solver ended with status $status (killed by a signal, or mpirun failed). Not resubmitting.\" >&2\n"
          "    exit \"$status\" ;;\n";
 }
 
@@ -145,12 +149,10 @@ std::string slurm_script(const Plan& p, const JobOptions& o) {
   s += "  3)\n";
   s += "    requeues=\"${SLURM_RESTART_COUNT:-0}\"\n";
   s += "    if [ \"$requeues\" -ge \"$max_requeues\" ]; then\n";
-  s += "      echo \"lodestone job: stopped early again after $requeues requeues (limit $max_requeues); not requeueing. \"\\\n"
-       "\"Submit this script again to resume from $checkpoint.\" >&2\n";
+  s += "      echo \"lodestone job: stopped early again after $requeues requeues (limit $max_requeues); not requeueing. Submit this script again to resume from $checkpoint.\" >&2\n";
   s += "      exit 3\n";
   s += "    fi\n";
-  s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; requeueing (requeue $((requeues + 1)) \"\\\n"
-       "\"of at most $max_requeues)\" >&2\n";
+  s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; requeueing (requeue $((requeues + 1)) of at most $max_requeues)\" >&2\n";
   s += "    if ! scontrol requeue \"$SLURM_JOB_ID\"; then\n";
   s += "      echo \"lodestone job: could not requeue; submit this script again to resume from $checkpoint\" >&2\n";
   s += "      exit 3\n";
@@ -178,14 +180,13 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
   s += "# (--time-budget), and the next job in the chain resumes from the checkpoint.\n";
   s += "cd \"${PBS_O_WORKDIR:-.}\" || exit 1\n";
   s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin), false);
-  s += fmt::format("script={}\n", shell_quote(o.script_path));
+  s += assign("script", o.script_path);
   s += fmt::format("max_jobs={}\n", 2 * p.jobs_high + 2);
   s += "case \"$status\" in\n";
   s += "  3)\n";
   s += "    chain=\"${LODESTONE_CHAIN:-1}\"\n";
   s += "    if [ \"$chain\" -ge \"$max_jobs\" ]; then\n";
-  s += "      echo \"lodestone job: stopped early again in job $chain of the chain (limit $max_jobs); not \"\\\n"
-       "\"resubmitting. Submit this script again to resume from $checkpoint.\" >&2\n";
+  s += "      echo \"lodestone job: stopped early again in job $chain of the chain (limit $max_jobs); not resubmitting. Submit this script again to resume from $checkpoint.\" >&2\n";
   s += "      exit 3\n";
   s += "    fi\n";
   s += "    if [ ! -f \"$script\" ]; then\n";
@@ -197,8 +198,7 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
   s += "      echo \"lodestone job: qsub failed; submit this script again to resume from $checkpoint\" >&2\n";
   s += "      exit 3\n";
   s += "    fi\n";
-  s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; job $((chain + 1)) of the chain is \"\\\n"
-       "\"$next\" >&2\n";
+  s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; job $((chain + 1)) of the chain is $next\" >&2\n";
   s += "    exit 0 ;;\n";
   s += other_statuses();
   s += "esac\n";

@@ -267,19 +267,26 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
 
   // Candidate allocations, all sized from one pass over row_offsets.
   const std::int64_t per_node_wanted = r.ranks_per_node > 0 ? r.ranks_per_node : r.cores_per_node;
-  std::vector<Candidate> cands;
+  // Ranks per node to try: all cores first; when memory is short, half as many, and so on
+  // (unless --ranks-per-node fixed it).
+  std::vector<std::int64_t> per_node_options{per_node_wanted};
+  if (r.ranks_per_node == 0)
+    for (std::int64_t q = per_node_wanted / 2; q >= 1; q /= 2) per_node_options.push_back(q);
+  std::vector<Candidate> all;
   std::vector<int> parts;
   for (std::int64_t nodes : node_counts(r)) {
-    Candidate c;
-    c.nodes = nodes;
-    c.per_node = per_node_wanted;
-    if (nodes == 1) c.per_node = std::min(per_node_wanted, f.rows);  // a tiny matrix gets fewer ranks
-    const std::int64_t ranks = nodes * c.per_node;
-    if (ranks > f.rows || ranks > (std::int64_t{1} << 30)) continue;  // ranks without rows help no one
-    cands.push_back(c);
-    parts.push_back(static_cast<int>(ranks));
+    for (std::int64_t per_node : per_node_options) {
+      Candidate c;
+      c.nodes = nodes;
+      c.per_node = per_node;
+      if (nodes == 1) c.per_node = std::min(per_node, f.rows);  // a tiny matrix gets fewer ranks
+      const std::int64_t ranks = nodes * c.per_node;
+      if (ranks > f.rows || ranks > (std::int64_t{1} << 30)) continue;  // ranks without rows help no one
+      all.push_back(c);
+      parts.push_back(static_cast<int>(ranks));
+    }
   }
-  if (cands.empty())
+  if (all.empty())
     return Status::usage(fmt::format("--nodes {} x {} ranks per node gives more ranks than the matrix has rows ({})",
                                      r.nodes, per_node_wanted, f.rows));
   std::vector<PartitionStats> stats;
@@ -291,8 +298,8 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     stats = std::move(*scanned);
   }
   const double usable_node = static_cast<double>(r.node_memory) * (1.0 - m.node_reserve_fraction);
-  for (std::size_t i = 0; i < cands.size(); ++i) {
-    Candidate& c = cands[i];
+  for (std::size_t i = 0; i < all.size(); ++i) {
+    Candidate& c = all[i];
     c.part = stats[i];
     c.ghosts = plan::ghost_estimate(dense, f.rows, c.part);
     c.memory = plan::rank_memory(m, s, dense, f.rows, c.part, c.ghosts);
@@ -301,6 +308,18 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     c.plan = p;
     finish(c.plan, r, m, s, f, c);
   }
+  // Per node count: the most ranks per node that fit (or, if none fits, all cores).
+  std::vector<Candidate> cands;
+  for (std::size_t i = 0; i < all.size();) {
+    std::size_t j = i;
+    std::size_t best = i;
+    bool found = false;
+    for (; j < all.size() && all[j].nodes == all[i].nodes; ++j)
+      if (!found && all[j].fits_memory) best = j, found = true;
+    cands.push_back(all[best]);
+    i = j;
+  }
+  const Candidate* full_below = nullptr;  // all cores on the chosen node count, when that did not fit
 
   // Choose: the fewest nodes that hold the matrix; more only to save chained jobs
   // while the extra nodes still pay for themselves (parallel efficiency >= 1/2).
@@ -337,6 +356,8 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     }
     out = cands[pick].plan;
     const Candidate& c = cands[pick];
+    for (const auto& x : all)
+      if (x.nodes == c.nodes && x.per_node == std::min(per_node_wanted, f.rows) && !x.fits_memory) full_below = &x;
     if (r.nodes > 0) {
       out.bound = "given";
       out.bound_reason = fmt::format("--nodes {} was given; its memory holds the heaviest rank", r.nodes);
@@ -348,8 +369,8 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
           cands[chosen].nodes, cands[chosen].nodes == 1 ? "" : "s", base.jobs_high, c.nodes, out.jobs_high);
     } else if (chosen == 0) {
       out.bound = "memory";
-      out.bound_reason = fmt::format("one node holds the matrix ({} ranks, one per {})", c.per_node,
-                                     r.ranks_per_node > 0 ? "--ranks-per-node" : "core");
+      out.bound_reason = fmt::format("one node holds the matrix with {} rank{}{}", c.per_node, c.per_node == 1 ? "" : "s",
+                                     c.per_node == r.cores_per_node ? ", one per core" : "");
     } else {
       const Candidate& below = cands[chosen - 1];
       out.bound = "memory";
@@ -359,6 +380,14 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
                                      static_cast<double>(below.per_node) * below.memory.total() / 1073741824.0,
                                      usable_node / 1073741824.0, c.nodes);
     }
+  }
+  if (out.fits && full_below && out.ranks_per_node < full_below->per_node) {
+    out.bound_reason += fmt::format("; only {} of the {} cores per node run a rank: {} ranks per node would need "
+                                    "{:.2f} GiB per node", out.ranks_per_node, r.cores_per_node, full_below->per_node,
+                                    static_cast<double>(full_below->per_node) * full_below->memory.total() / 1073741824.0);
+    out.warnings.push_back(fmt::format("memory per node limits the run to {} rank{} on each {}-core node; nodes "
+                                       "with more memory would use every core", out.ranks_per_node,
+                                       out.ranks_per_node == 1 ? "" : "s", r.cores_per_node));
   }
   // Warnings about the method and the partition.
   if (out.method == "power" && out.pairs > 16)
