@@ -43,6 +43,9 @@ struct PlanRequest {
   std::int64_t nodes = 0;                 // 0: the planner chooses
   std::int64_t max_nodes = 64;            // largest allocation the planner will propose
   std::string calibration_path;           // JSON written by `lodestone calibrate`; empty: defaults
+  // Ghost (halo) rows per rank when the user knows them (e.g. 2 x nx for a 2-D grid split
+  // in row blocks); 0: the bound min(n - rows, nonzeros of the rank), since column indices are not read.
+  std::int64_t ghost_rows = 0;
 };
 
 // Bytes one rank needs (the heaviest rank of the partition).
@@ -84,6 +87,7 @@ struct Plan {
   std::string bound_reason;           // one sentence
   // The heaviest rank.
   std::int64_t heaviest_rows = 0, heaviest_nnz = 0, max_rows = 0, ghosts = 0;
+  bool ghosts_given = false;          // from --ghost-rows rather than the upper bound
   MemoryBreakdown memory;
   double node_memory_used = 0;        // ranks_per_node x memory.total()
   double node_memory_usable = 0;      // node memory less the share kept for the system

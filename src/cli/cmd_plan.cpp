@@ -65,6 +65,9 @@ Command make_plan_command(CLI::App& root) {
   app->add_option("--method", a->req.method, "auto | power | block | chebyshev, as for solve")->capture_default_str();
   app->add_option("--block-size", a->req.block_size, "block width the model assumes (default: K plus a few)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
+  app->add_option("--ghost-rows", a->req.ghost_rows,
+                  "ghost rows per rank, if known (default: an upper bound; column indices are not read)")
+      ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 50));
   app->add_option("--group", a->req.group, "HDF5 group of the matrix")->capture_default_str();
   app->add_option("--calibration", a->req.calibration_path, "JSON file of measured speeds (lodestone calibrate)");
   app->add_option("--out", a->out, "write the batch script here");

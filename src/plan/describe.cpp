@@ -44,7 +44,7 @@ std::string describe_plan(const Plan& p) {
   line("block vectors", human_bytes(m.vectors));
   line("locked vectors", fmt::format("{} ({} vectors)", human_bytes(m.locked), p.pairs));
   line("halo (ghost values)", p.ranks > 1 ? fmt::format("{} (at most {} ghost rows{})", human_bytes(m.halo), p.ghosts,
-                                                          p.dense ? "" : "; an upper bound, column indices are not read")
+                                                          p.dense ? "" : p.ghosts_given ? "; from --ghost-rows" : "; an upper bound, column indices are not read")
                                           : human_bytes(m.halo) + " (one rank: none)");
   line("read buffers", fmt::format("{} (while loading)", human_bytes(m.read_buffers)));
   line("library overhead", fmt::format("{} (MPI, PETSc, HDF5)", human_bytes(m.library)));

@@ -108,6 +108,7 @@ Status check_request(const PlanRequest& r) {
   if (r.method != "auto" && r.method != "power" && r.method != "block" && r.method != "chebyshev")
     return Status::usage(fmt::format("--method '{}': expected auto, power, block or chebyshev", r.method));
   if (r.block_size < 0) return Status::usage("--block-size must be at least 1");
+  if (r.ghost_rows < 0) return Status::usage("--ghost-rows must be at least 1");
   if (r.block_size > 0 && r.block_size < r.pairs)
     return Status::usage(fmt::format("--block-size {} is smaller than --pairs {}", r.block_size, r.pairs));
   return Status::ok();
@@ -249,6 +250,7 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
   p.speed_source = m.speed_source;
   p.convergence_source = m.convergence_source;
   p.pairs = r.pairs;
+  p.ghosts_given = r.ghost_rows > 0 && !dense;
 
   std::string method = r.method;
   if (method == "auto") {
@@ -302,6 +304,7 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     Candidate& c = all[i];
     c.part = stats[i];
     c.ghosts = plan::ghost_estimate(dense, f.rows, c.part);
+    if (r.ghost_rows > 0 && !dense) c.ghosts = std::min(c.ghosts, r.ghost_rows);
     c.memory = plan::rank_memory(m, s, dense, f.rows, c.part, c.ghosts);
     c.iteration = plan::iteration_time(m, s, dense, f.rows, c.part, c.ghosts);
     c.fits_memory = static_cast<double>(c.per_node) * c.memory.total() <= usable_node;
