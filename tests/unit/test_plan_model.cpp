@@ -121,9 +121,18 @@ TEST(PlanModel, PlannerPicksTheFewestNodesThatHoldTheMatrix) {
   EXPECT_EQ(big->heaviest_rows + big->max_rows >= n, true);
   EXPECT_NEAR(static_cast<double>(big->heaviest_nnz), 1.5 * n, 2.0);
 
-  // Node memory just below what one node needs: the planner must take two.
+  // Node memory just below what one node needs for 2 ranks: by default the planner
+  // runs 1 rank on 1 node (fewest nodes first) and says so ...
   const double one_node = big->node_memory_used / (1.0 - 0.05);
   r.node_memory = static_cast<std::int64_t>(one_node) - 1;
+  auto half = make_plan(comm, r);
+  ASSERT_TRUE(half.is_ok()) << half.status().message();
+  EXPECT_EQ(half->nodes, 1);
+  EXPECT_EQ(half->ranks_per_node, 1);
+  EXPECT_NE(half->bound_reason.find("only 1 of the 2 cores"), std::string::npos) << half->bound_reason;
+  ASSERT_FALSE(half->warnings.empty());
+  // ... and with 2 ranks per node required it must take two nodes.
+  r.ranks_per_node = 2;
   auto two = make_plan(comm, r);
   ASSERT_TRUE(two.is_ok()) << two.status().message();
   EXPECT_EQ(two->nodes, 2);
