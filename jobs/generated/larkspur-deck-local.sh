@@ -4,35 +4,35 @@
 # again to resume.
 # Plan for larkspur-deck.h5 (group /matrix)
 #   matrix                360000 x 360000, 1797000 nonzeros (CSR), symmetric
-#   method                chebyshev (auto: the matrix is symmetric), 8 pairs, block of 10 vectors, filter degree 8
+#   method                chebyshev (auto: the matrix is symmetric), 8 pairs, block of 12 vectors, filter degree 10
 #   scheduler             local
 #   allocation            1 node x 8 ranks = 8 ranks (8 cores, 32.0 GiB per node)
 #   sized by              memory: one node holds the matrix with 8 ranks, one per core
 #   heaviest rank         44951 rows, 224679 nonzeros (most rows on any rank: 45150)
 # Memory per rank (the heaviest rank)
 #   matrix rows           3.1 MiB
-#   block vectors         13.8 MiB
+#   block vectors         16.5 MiB
 #   locked vectors        2.8 MiB (8 vectors)
-#   halo (ghost values)   18.0 MiB (at most 224679 ghost rows; an upper bound, column indices are not read)
+#   halo (ghost values)   21.4 MiB (at most 224679 ghost rows; an upper bound, column indices are not read)
 #   read buffers          5.0 MiB (while loading)
 #   library overhead      64.0 MiB (MPI, PETSc, HDF5)
-#   safety margin         21.3 MiB
-#   total                 127.9 MiB
-#   per node              1023.3 MiB for 8 ranks, of 30.4 GiB usable
+#   safety margin         22.6 MiB
+#   total                 135.3 MiB
+#   per node              1.1 GiB for 8 ranks, of 30.4 GiB usable
 # Time
 #   speeds from           defaults (common practice, not measured here)
 #   convergence from      defaults (common practice, not measured here)
-#   matvecs               510 to 4830 (80 per iteration)
-#   iterations            6 to 60
-#   per iteration         98.7 ms (matrix passes 56.1 ms, halo 29.0 ms, reductions 0.1 ms, dense work 13.5 ms)
+#   matvecs               504 to 4824 (120 per iteration)
+#   iterations            4 to 40
+#   per iteration         145.7 ms (matrix passes 82.7 ms, halo 43.4 ms, reductions 0.1 ms, dense work 19.5 ms)
 #   loading the matrix    34.5 ms per job
-#   solve                 624.0 ms to 6.0 s
-#   walltime, all jobs    658.6 ms to 6.0 s
+#   solve                 608.0 ms to 5.9 s
+#   walltime, all jobs    642.5 ms to 5.9 s
 # Jobs
 #   walltime per job      none (runs to the end)
 #   chained jobs          1
 #   stop margin           60 s before the limit
-#   checkpoint            every 1800 s, 50.4 MiB each, ~52.9 ms to write
+#   checkpoint            every 1800 s, 55.9 MiB each, ~58.6 ms to write
 
 set -u
 

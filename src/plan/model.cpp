@@ -4,7 +4,6 @@
 #include <algorithm>
 #include <cmath>
 
-#include "io/matrix_summary.hpp"
 
 namespace lodestone::plan {
 
@@ -14,7 +13,10 @@ std::int64_t log2_ceil(std::int64_t p) {
   return k;
 }
 
-std::int64_t default_block(std::int64_t pairs) { return pairs + std::max<std::int64_t>(2, (pairs + 3) / 4); }
+std::int64_t default_block(const std::string& method, std::int64_t pairs) {
+  if (method == "chebyshev") return pairs + std::max<std::int64_t>(4, pairs / 2);
+  return pairs + std::max<std::int64_t>(2, (pairs + 1) / 2);
+}
 
 MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int64_t block) {
   MethodShape s;
@@ -33,16 +35,16 @@ MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int
     s.checkpoint_vectors = pairs + 1;
     return s;
   }
-  s.block = block > 0 ? block : default_block(pairs);
+  s.block = block > 0 ? block : default_block(method, pairs);
   const double b = static_cast<double>(s.block);
   // Orthonormalize the block twice and rotate it by the Ritz vectors: ~6 b^2 flops per row.
   s.dense_flops_per_row = 6.0 * b * b;
   s.reductions_per_iteration = 4;  // Gram matrix (twice), projected matrix, residual norms
   s.checkpoint_vectors = s.block + pairs;
   if (method == "chebyshev") {
-    s.passes_per_iteration = 8;      // filter degree
+    s.passes_per_iteration = 10;     // filter degree: the solver starts at 10 and adapts it (4 to 400)
     s.blocks_held = 4;               // three-term recurrence (3 blocks) and A X for Rayleigh-Ritz
-    s.startup_matvecs = 30;          // Lanczos run bounding the unwanted interval
+    s.startup_matvecs = 24;          // Lanczos run bounding the unwanted interval
     s.default_matvecs_per_pair_low = 60;
     s.default_matvecs_per_pair_high = 600;
   } else {

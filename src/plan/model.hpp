@@ -58,8 +58,9 @@ struct MethodShape {
   std::int64_t matvecs_per_iteration() const { return block * passes_per_iteration; }
 };
 
-// The block width a method uses by default for K pairs (K plus a few guard vectors).
-std::int64_t default_block(std::int64_t pairs);
+// The block width a method uses by default for K pairs (K plus a few guard vectors),
+// as the solver chooses it: block K + max(2, ceil(K/2)), chebyshev K + max(4, floor(K/2)).
+std::int64_t default_block(const std::string& method, std::int64_t pairs);
 // `block` = 0 picks the default. Method names are power, block, chebyshev.
 MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int64_t block);
 

@@ -20,7 +20,7 @@ one "$LODESTONE" plan plate.h5 "${common[@]}" --scheduler slurm > one.txt
 run 3 "$LODESTONE" plan plate.h5 "${common[@]}" --scheduler slurm > three.txt
 # The planner's own rank count must not change the plan.
 diff one.txt three.txt || fail "plan differs between 1 and 3 planner ranks"
-for field in "60000 x 60000, 299000 nonzeros" "chebyshev (auto: the matrix is symmetric)" "block of 8 vectors" \
+for field in "60000 x 60000, 299000 nonzeros" "chebyshev (auto: the matrix is symmetric)" "block of 10 vectors" \
              "1 node x 4 ranks = 4 ranks" "sized by" "heaviest rank" "matrix rows" "block vectors" "locked vectors" \
              "halo (ghost values)" "library overhead" "safety margin" "per node" "matvecs" "per iteration" \
              "chained jobs" "stop margin" "checkpoint"; do

@@ -25,9 +25,11 @@ plan::MachineModel round_model() {
 }  // namespace
 
 TEST(PlanModel, BlockDefaults) {
-  EXPECT_EQ(plan::default_block(1), 3);   // K + 2
-  EXPECT_EQ(plan::default_block(4), 6);   // K + 2
-  EXPECT_EQ(plan::default_block(20), 25);  // K + ceil(K/4) = 20 + 5
+  EXPECT_EQ(plan::default_block("block", 1), 3);       // K + 2
+  EXPECT_EQ(plan::default_block("block", 4), 6);       // K + 2
+  EXPECT_EQ(plan::default_block("block", 7), 11);      // K + ceil(K/2) = 7 + 4
+  EXPECT_EQ(plan::default_block("chebyshev", 4), 8);   // K + 4
+  EXPECT_EQ(plan::default_block("chebyshev", 20), 30); // K + K/2
   EXPECT_EQ(plan::log2_ceil(1), 0);
   EXPECT_EQ(plan::log2_ceil(4), 2);
   EXPECT_EQ(plan::log2_ceil(5), 3);
@@ -81,9 +83,9 @@ TEST(PlanModel, IterationTimeByHand) {
   EXPECT_EQ(t1.halo, 0);
   EXPECT_EQ(t1.reductions, 0);
   // Chebyshev: the filter degree multiplies the matrix passes.
-  const auto c = plan::method_shape("chebyshev", 4, 0);
+  const auto c = plan::method_shape("chebyshev", 4, 6);
   auto tc = plan::iteration_time(m, c, false, 1000, part, 0);
-  EXPECT_NEAR(tc.matrix_passes, 8 * t1.matrix_passes, 1e-15);
+  EXPECT_NEAR(tc.matrix_passes, 10 * t1.matrix_passes, 1e-15);
   // A calibrated speed replaces the bandwidth estimate: b x nnz x s per pass.
   auto mc = m;
   mc.seconds_per_nonzero = 2e-9;
