@@ -228,3 +228,38 @@ TEST(PlanModel, BadCalibrationIsAnInputError) {
   EXPECT_EQ(p.status().kind(), ErrorKind::input);
   EXPECT_NE(p.status().message().find("seconds_per_nonzero"), std::string::npos);
 }
+
+TEST(PlanModel, MoreNodesWhenTheyCutChainedJobs) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::string path = write_laplace1d(comm, 200000);
+  const std::string cal = test::temp_path(comm, "cal-time.json");
+  if (comm_rank(comm) == 0)
+    std::ofstream(cal) << R"({"format": "lodestone-calibration", "version": 1, "seconds_per_nonzero": 1e-6,
+      "matvecs_per_pair": [1000, 1000]})";
+  MPI_Barrier(comm);
+  PlanRequest r;
+  r.matrix_path = path;
+  r.pairs = 2;
+  r.method = "power";
+  r.scheduler = Scheduler::slurm;
+  r.cores_per_node = 2;
+  r.node_memory = std::int64_t{1} << 36;
+  r.max_walltime = 5 * 60;
+  r.calibration_path = cal;
+  // One node (2 ranks, ~300000 nonzeros each): 2000 iterations of ~0.3 s = ~600 s, in
+  // jobs of ~240 s usable: 3 jobs. Three nodes (6 ranks): ~200 s, one job, with the
+  // same node-seconds, so the planner takes more nodes and says it is time bound.
+  auto p = make_plan(comm, r);
+  ASSERT_TRUE(p.is_ok()) << p.status().message();
+  EXPECT_EQ(p->bound, "time") << p->bound_reason;
+  EXPECT_EQ(p->nodes, 3);
+  EXPECT_EQ(p->jobs_high, 1);
+  EXPECT_NE(p->bound_reason.find("1 node would hold the matrix but need up to 3 chained jobs"), std::string::npos)
+      << p->bound_reason;
+  // Fixed to one node, the same request spans three jobs.
+  r.nodes = 1;
+  auto q = make_plan(comm, r);
+  ASSERT_TRUE(q.is_ok());
+  EXPECT_EQ(q->bound, "given");
+  EXPECT_EQ(q->jobs_high, 3);
+}
