@@ -34,7 +34,7 @@ for s in slurm pbs local; do
   bash -n "job.$s" || fail "bash -n job.$s"
   shellcheck -s bash "job.$s" || fail "shellcheck job.$s"
   grep -qF "# Plan for plate.h5 (group /matrix)" "job.$s" || fail "job.$s lacks the summary block"
-  grep -qF -- '--checkpoint "$checkpoint" --resume' "job.$s" || fail "job.$s does not resume from a checkpoint"
+  grep -qF -- "--checkpoint \"\$checkpoint\" --resume" "job.$s" || fail "job.$s does not resume from a checkpoint"
 done
 grep -q '^#SBATCH --signal=B:USR1@[0-9]*$' job.slurm || fail "no --signal directive"
 grep -q '^#PBS -l select=1:ncpus=4:mpiprocs=4:mem=[0-9]*mb$' job.pbs || fail "no select directive"

@@ -6,6 +6,8 @@
 # then run with stand-in mpirun/scontrol/qsub commands that record their arguments:
 # the paths arrive intact, no marker file appears, and the exit statuses 0, 3, 1
 # and a forwarded USR1 lead to the documented actions.
+# The hostile values below are single-quoted on purpose: they must stay literal.
+# shellcheck disable=SC2016
 set -euo pipefail
 : "${LODESTONE:?}"
 tmp="$(mktemp -d)"
@@ -97,7 +99,7 @@ for s in slurm pbs local; do
   grep -qxF -- "res; touch PWNED3.h5" mpirun.args || fail "$s: result path did not arrive intact"
   grep -qxF -- "$tmp/lode stone" mpirun.args || fail "$s: lodestone path did not arrive intact"
   grep -qxF -- "--resume" mpirun.args || fail "$s: no --resume"
-  [ ! -e scontrol.args ] && [ ! -e qsub.args ] || fail "$s status 0: something was resubmitted"
+  if [ -e scontrol.args ] || [ -e qsub.args ]; then fail "$s status 0: something was resubmitted"; fi
 
   # Status 3: requeue (Slurm) or chain the next job (PBS); local asks to run again.
   set +e
@@ -126,7 +128,7 @@ for s in slurm pbs local; do
   set -e
   [ "$rc" -eq 1 ] || fail "$s status 1: exit $rc"
   grep -qF "Not resubmitting" run.out || fail "$s status 1: no explanation"
-  [ ! -e scontrol.args ] && [ ! -e qsub.args ] || fail "$s status 1: something was resubmitted"
+  if [ -e scontrol.args ] || [ -e qsub.args ]; then fail "$s status 1: something was resubmitted"; fi
 done
 
 # A warning signal reaches the solver: USR1 to the Slurm batch shell is passed on as USR1.

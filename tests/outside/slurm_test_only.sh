@@ -17,7 +17,7 @@ export SLURM_CONF="$LOCAL_SLURM_DIR/slurm.conf"
 cd "$tmp"
 cpus="$(slurmd -C | sed -n 's/.* CPUs=\([0-9]*\).*/\1/p' | head -n 1)"
 mem_mb="$(slurmd -C | sed -n 's/.* RealMemory=\([0-9]*\).*/\1/p' | head -n 1)"
-[ -n "$cpus" ] && [ -n "$mem_mb" ] || fail "cannot read the node's CPUs and memory from slurmd -C"
+if [ -z "$cpus" ] || [ -z "$mem_mb" ]; then fail "cannot read the node's CPUs and memory from slurmd -C"; fi
 timeout 120 "$LODESTONE" generate laplace1d --n 20000 m.h5 >/dev/null
 timeout 120 "$LODESTONE" plan m.h5 --pairs 3 --scheduler slurm --cores-per-node "$cpus" --node-memory "${mem_mb}M" \
   --max-walltime 00:02:00 --job-name test-only --out ok.slurm >/dev/null
