@@ -47,7 +47,11 @@ std::string describe_plan(const Plan& p) {
                                                           p.dense ? "" : p.ghosts_given ? "; from --ghost-rows" : "; an upper bound, column indices are not read")
                                           : human_bytes(m.halo) + " (one rank: none)");
   line("read buffers", fmt::format("{} (while loading)", human_bytes(m.read_buffers)));
+  line("symmetry check", fmt::format("{} (while loading{})", human_bytes(m.symmetry_check),
+                                     p.symmetric ? ": transpose and difference" : "; not symmetric, none"));
   line("library overhead", fmt::format("{} (MPI, PETSc, HDF5)", human_bytes(m.library)));
+  line("peak", fmt::format("{} (matrix + library + the larger of solving {} and loading {})", human_bytes(m.peak()),
+                           human_bytes(m.solving()), human_bytes(m.loading())));
   line("safety margin", human_bytes(m.margin));
   line("total", human_bytes(m.total()));
   line("per node", fmt::format("{} for {} rank{}, of {} usable", human_bytes(p.node_memory_used), p.ranks_per_node,

@@ -62,7 +62,7 @@ std::int64_t ghost_estimate(bool dense, std::int64_t n, const PartitionStats& pa
   return std::min(n - part.heaviest_rows, part.heaviest_nnz);
 }
 
-MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool dense, std::int64_t n,
+MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool dense, bool symmetric, std::int64_t n,
                             const PartitionStats& part, std::int64_t ghosts) {
   MemoryBreakdown out;
   const double rows = static_cast<double>(part.heaviest_rows);
@@ -78,8 +78,10 @@ MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool de
     const double chunk = static_cast<double>(std::min<std::int64_t>(m.read_chunk_entries, std::max<std::int64_t>(part.heaviest_nnz, 1)));
     out.read_buffers = chunk * (8.0 + 8.0 + m.index_bytes) + (rows + 1) * 8.0 + rows * 2.0 * m.index_bytes;
   }
+  // Matrix::load checks a matrix declared symmetric with a transpose and a difference: two more copies.
+  if (symmetric) out.symmetry_check = 2.0 * out.matrix;
   out.library = m.library_overhead;
-  out.margin = m.safety_fraction * (out.matrix + out.vectors + out.locked + out.halo + out.read_buffers + out.library);
+  out.margin = m.safety_fraction * out.peak();
   return out;
 }
 

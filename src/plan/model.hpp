@@ -69,7 +69,7 @@ MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int
 // column indices are never read, so the true count is not known).
 std::int64_t ghost_estimate(bool dense, std::int64_t n, const PartitionStats& part);
 
-MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool dense, std::int64_t n,
+MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool dense, bool symmetric, std::int64_t n,
                             const PartitionStats& part, std::int64_t ghosts);
 
 IterationTime iteration_time(const MachineModel& m, const MethodShape& s, bool dense, std::int64_t n,

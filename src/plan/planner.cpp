@@ -305,7 +305,7 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     c.part = stats[i];
     c.ghosts = plan::ghost_estimate(dense, f.rows, c.part);
     if (r.ghost_rows > 0 && !dense) c.ghosts = std::min(c.ghosts, r.ghost_rows);
-    c.memory = plan::rank_memory(m, s, dense, f.rows, c.part, c.ghosts);
+    c.memory = plan::rank_memory(m, s, dense, f.symmetric, f.rows, c.part, c.ghosts);
     c.iteration = plan::iteration_time(m, s, dense, f.rows, c.part, c.ghosts);
     c.fits_memory = static_cast<double>(c.per_node) * c.memory.total() <= usable_node;
     c.plan = p;

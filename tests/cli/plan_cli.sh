@@ -22,7 +22,7 @@ run 3 "$LODESTONE" plan plate.h5 "${common[@]}" --scheduler slurm > three.txt
 diff one.txt three.txt || fail "plan differs between 1 and 3 planner ranks"
 for field in "60000 x 60000, 299000 nonzeros" "chebyshev (auto: the matrix is symmetric)" "block of 10 vectors" \
              "1 node x 4 ranks = 4 ranks" "sized by" "heaviest rank" "matrix rows" "block vectors" "locked vectors" \
-             "halo (ghost values)" "library overhead" "safety margin" "per node" "matvecs" "per iteration" \
+             "halo (ghost values)" "symmetry check" "library overhead" "peak" "safety margin" "per node" "matvecs" "per iteration" \
              "chained jobs" "stop margin" "checkpoint"; do
   grep -qF -- "$field" one.txt || { cat one.txt; fail "summary lacks '$field'"; }
 done

@@ -47,16 +47,24 @@ TEST(PlanModel, MemoryOfTheHeaviestRankByHand) {
   const std::int64_t n = 1000;
   const std::int64_t ghosts = plan::ghost_estimate(false, n, part);
   EXPECT_EQ(ghosts, 750);  // min(n - rows, nnz) = min(750, 1000)
-  auto mem = plan::rank_memory(m, s, false, n, part, ghosts);
+  auto mem = plan::rank_memory(m, s, false, true, n, part, ghosts);
   EXPECT_DOUBLE_EQ(mem.matrix, 1000 * 12.0 + 250 * 12.0);        // nnz (8 + 4) + rows 3 x 4
   EXPECT_DOUBLE_EQ(mem.vectors, 8.0 * 260 * 18);                  // 3 blocks of 6 vectors over the most rows
   EXPECT_DOUBLE_EQ(mem.locked, 8.0 * 260 * 4);
   EXPECT_DOUBLE_EQ(mem.halo, 750 * (8.0 * 6 + 4));
   EXPECT_DOUBLE_EQ(mem.read_buffers, 1000 * 20.0 + 251 * 8.0 + 250 * 8.0);  // chunk x (8+8+4), offsets, two counts
+  EXPECT_DOUBLE_EQ(mem.symmetry_check, 2 * 15000.0);  // declared symmetric: transpose and difference
   EXPECT_DOUBLE_EQ(mem.library, 1000);
-  const double sum = 15000 + 37440 + 8320 + 39000 + 24008 + 1000;
-  EXPECT_DOUBLE_EQ(mem.margin, 0.2 * sum);
-  EXPECT_DOUBLE_EQ(mem.total(), 1.2 * sum);
+  // Solving (37440 + 8320 + 39000 = 84760) outweighs loading (max(24008, 30000) = 30000).
+  const double peak = 15000 + 1000 + 84760;
+  EXPECT_DOUBLE_EQ(mem.peak(), peak);
+  EXPECT_DOUBLE_EQ(mem.margin, 0.2 * peak);
+  EXPECT_DOUBLE_EQ(mem.total(), 1.2 * peak);
+  // One vector in a block and no ghosts: loading is the peak.
+  auto one = plan::rank_memory(m, plan::method_shape("power", 1, 0), false, true, n, part, 0);
+  EXPECT_DOUBLE_EQ(one.peak(), 15000 + 1000 + 30000);  // power: 4 + 1 vectors of 260 rows = 10400 < 30000
+  auto nonsym = plan::rank_memory(m, s, false, false, n, part, ghosts);
+  EXPECT_EQ(nonsym.symmetry_check, 0);
 }
 
 TEST(PlanModel, IterationTimeByHand) {
