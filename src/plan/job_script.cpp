@@ -153,7 +153,7 @@ std::string slurm_script(const Plan& p, const JobOptions& o) {
   s += "      exit 3\n";
   s += "    fi\n";
   s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; requeueing (requeue $((requeues + 1)) of at most $max_requeues)\" >&2\n";
-  s += "    if ! scontrol requeue \"$SLURM_JOB_ID\"; then\n";
+  s += "    if [ -z \"${SLURM_JOB_ID:-}\" ] || ! scontrol requeue \"$SLURM_JOB_ID\"; then\n";
   s += "      echo \"lodestone job: could not requeue; submit this script again to resume from $checkpoint\" >&2\n";
   s += "      exit 3\n";
   s += "    fi\n";
@@ -187,6 +187,10 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
   s += "    chain=\"${LODESTONE_CHAIN:-1}\"\n";
   s += "    if [ \"$chain\" -ge \"$max_jobs\" ]; then\n";
   s += "      echo \"lodestone job: stopped early again in job $chain of the chain (limit $max_jobs); not resubmitting. Submit this script again to resume from $checkpoint.\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
+  s += "    if [ -z \"${PBS_JOBID:-}\" ]; then\n";
+  s += "      echo \"lodestone job: not running under PBS (no PBS_JOBID); submit this script with qsub to resume from $checkpoint\" >&2\n";
   s += "      exit 3\n";
   s += "    fi\n";
   s += "    if [ ! -f \"$script\" ]; then\n";
