@@ -26,7 +26,8 @@ struct PairCheck {
   double stored_residual = 0;      // as the solver recorded it
   double residual = 0;             // recomputed, for the vector scaled to unit norm
   double norm_error = 0;           // | ||v||_2 - 1 | (complex pairs: of x + iy)
-  double orthogonality = 0;        // max |v_i . v_j| over other checked pairs j (symmetric only; else 0)
+  double orthogonality = 0;        // max |v_i . v_j| over the other checked pairs j, among pairs whose
+                                   // residual and length pass (symmetric only; else 0)
   bool checked = false;            // among the pairs the result says converged
   bool passed = false;             // checked and within every bound
   std::string verdict;             // "ok", "residual too large", ..., or "not converged (not checked)"

@@ -22,7 +22,7 @@ static std::string table(const VerifyReport& rep) {
     const auto& p = rep.pairs[j];
     out += fmt::format("{:>5}  {:<32}  {:>10.3e}  {:>10.3e}  {:>10.3e}  {:>10}  {}\n", j,
                        eigenvalue_text(p.eigenvalue, p.eigenvalue_imag), p.stored_residual, p.residual, p.norm_error,
-                       rep.symmetric && p.checked ? fmt::format("{:.3e}", p.orthogonality) : "", p.verdict);
+                       rep.symmetric && (p.passed || p.verdict == "not orthogonal") ? fmt::format("{:.3e}", p.orthogonality) : "", p.verdict);
   }
   return out;
 }
