@@ -58,8 +58,12 @@ void expect_same_facts(const SolveResult& a, const SolveResult& b) {
       // NaN marks locked pairs and must survive the round trip.
       EXPECT_EQ(std::isnan(x.estimates[p]), std::isnan(y.estimates[p]));
       EXPECT_EQ(std::isnan(x.residuals[p]), std::isnan(y.residuals[p]));
-      if (!std::isnan(x.residuals[p])) EXPECT_EQ(x.residuals[p], y.residuals[p]);
-      if (!std::isnan(x.estimates[p])) EXPECT_EQ(x.estimates[p], y.estimates[p]);
+      if (!std::isnan(x.residuals[p])) {
+        EXPECT_EQ(x.residuals[p], y.residuals[p]);
+      }
+      if (!std::isnan(x.estimates[p])) {
+        EXPECT_EQ(x.estimates[p], y.estimates[p]);
+      }
     }
   }
 }
@@ -231,4 +235,28 @@ TEST(ResultFile, ReadErrorsAreClear) {
   auto beyond = read_result(comm, path, last ? kN - 1 : 0, last ? kN + 5 : 0);
   ASSERT_FALSE(beyond.is_ok());
   EXPECT_NE(beyond.status().message().find("rows"), std::string::npos) << beyond.status().message();
+}
+
+TEST(ResultFile, NoPairsAtAll) {
+  // A run that returns nothing (K = 0) still writes a well-formed file.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  RowRange mine = even_split(kN, comm_rank(comm), comm_size(comm));
+  SolveResult r;
+  r.rows = kN;
+  r.row_begin = mine.begin;
+  r.row_end = mine.end;
+  r.method = "power";
+  r.selection = "magnitude";
+  r.history.resize(2);
+  r.history[1].iteration = 1;
+  std::string path = test::temp_path(comm, "result-empty.h5");
+  Status s = write_result(comm, path, r);
+  ASSERT_TRUE(s.is_ok()) << s.message();
+  auto read = read_result(comm, path, mine.begin, mine.end);
+  ASSERT_TRUE(read.is_ok()) << read.status().message();
+  EXPECT_EQ(read->pairs(), 0);
+  EXPECT_TRUE(read->vectors.empty());
+  ASSERT_EQ(read->history.size(), 2u);
+  EXPECT_EQ(read->history[1].iteration, 1);
+  EXPECT_EQ(read->ranks, comm_size(comm));  // 0 in the SolveResult means "the writing communicator's size"
 }
