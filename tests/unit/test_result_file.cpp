@@ -260,3 +260,22 @@ TEST(ResultFile, NoPairsAtAll) {
   EXPECT_EQ(read->history[1].iteration, 1);
   EXPECT_EQ(read->ranks, comm_size(comm));  // 0 in the SolveResult means "the writing communicator's size"
 }
+
+TEST(ResultFile, EigenvectorsMoveInPieces) {
+  // Pieces of 9 values (2 rows of 4 pairs): many collective transfers per rank,
+  // with ranks holding different numbers of pieces. Written and read in pieces
+  // of different sizes, the vectors must come back exactly.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const int rank = comm_rank(comm), size = comm_size(comm);
+  // Uneven blocks: the last rank holds most rows.
+  const std::int64_t per = kN / (2 * size);
+  const std::int64_t begin = rank * per, end = rank == size - 1 ? kN : (rank + 1) * per;
+  auto r = test::laplace1d_result(comm, kN, kK, begin, end, 99);
+  std::string path = test::temp_path(comm, "result-pieces.h5");
+  Status s = io::write_result_file(comm, path, r, {}, 9);
+  ASSERT_TRUE(s.is_ok()) << s.message();
+  RowRange mine = even_split(kN, rank, size);
+  auto read = io::read_result_file(comm, path, mine.begin, mine.end, 5);
+  ASSERT_TRUE(read.is_ok()) << read.status().message();
+  expect_closed_form_rows(*read);
+}
