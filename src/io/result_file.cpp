@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <utility>
 
 #include "io/atomic_output.hpp"
 #include "io/h5.hpp"
@@ -132,6 +133,47 @@ static Status write_replicated_rows(MPI_Comm comm, hid_t loc, const char* name, 
   return agree(comm, h5::write_rows(ds->get(), H5T_NATIVE_DOUBLE, 0, root ? rows : 0, cols, values.data()));
 }
 
+// The replicated facts as rank 0 has them. HDF5 needs identical attribute
+// values from every rank, and a fact measured per rank (elapsed seconds, say)
+// may differ in the last bit; rank 0's copy is the one written.
+static SolveResult replicated_from_root(MPI_Comm comm, const SolveResult& r) {
+  SolveResult out;
+  out.eigenvalues = r.eigenvalues;
+  out.eigenvalues_imag = r.eigenvalues_imag;
+  if (out.eigenvalues_imag.empty()) out.eigenvalues_imag.assign(r.eigenvalues.size(), 0.0);
+  out.residual_norms = r.residual_norms;
+  out.history = r.history;
+  const auto k = static_cast<int>(r.eigenvalues.size());  // agreed across ranks already
+  MPI_Bcast(out.eigenvalues.data(), k, MPI_DOUBLE, 0, comm);
+  MPI_Bcast(out.eigenvalues_imag.data(), k, MPI_DOUBLE, 0, comm);
+  MPI_Bcast(out.residual_norms.data(), k, MPI_DOUBLE, 0, comm);
+  double d[3] = {r.tolerance, r.norm_estimate, r.elapsed_seconds};
+  std::int64_t i[4] = {r.converged, r.matvecs, r.iterations, r.ranks > 0 ? r.ranks : comm_size(comm)};
+  std::uint64_t fp = r.matrix_fingerprint;
+  MPI_Bcast(d, 3, MPI_DOUBLE, 0, comm);
+  MPI_Bcast(i, 4, MPI_INT64_T, 0, comm);
+  MPI_Bcast(&fp, 1, MPI_UINT64_T, 0, comm);
+  out.tolerance = d[0], out.norm_estimate = d[1], out.elapsed_seconds = d[2];
+  out.converged = i[0], out.matvecs = i[1], out.iterations = i[2], out.ranks = i[3];
+  out.matrix_fingerprint = fp;
+  for (auto [from, to] : {std::pair{&r.method, &out.method}, std::pair{&r.selection, &out.selection}}) {
+    int len = static_cast<int>(from->size());
+    MPI_Bcast(&len, 1, MPI_INT, 0, comm);
+    *to = *from;
+    to->resize(static_cast<std::size_t>(len));
+    MPI_Bcast(to->data(), len, MPI_CHAR, 0, comm);
+  }
+  for (auto& rec : out.history) {
+    std::int64_t ints[3] = {rec.iteration, rec.matvecs, rec.converged};
+    MPI_Bcast(ints, 3, MPI_INT64_T, 0, comm);
+    rec.iteration = ints[0], rec.matvecs = ints[1], rec.converged = ints[2];
+    MPI_Bcast(&rec.seconds, 1, MPI_DOUBLE, 0, comm);
+    MPI_Bcast(rec.estimates.data(), k, MPI_DOUBLE, 0, comm);
+    MPI_Bcast(rec.residuals.data(), k, MPI_DOUBLE, 0, comm);
+  }
+  return out;
+}
+
 static Status write_attributes(hid_t root, const SolveResult& r, std::int64_t ranks) {
   LODESTONE_TRY(h5::write_string_attribute(root, rl::kFileKind, rl::kFileKindValue));
   LODESTONE_TRY(h5::write_int_attribute(root, rl::kFormat, rl::kFormatVersion));
@@ -151,15 +193,16 @@ static Status write_attributes(hid_t root, const SolveResult& r, std::int64_t ra
 static Status write_contents(MPI_Comm comm, hid_t file, const SolveResult& r, std::int64_t piece_entries) {
   const std::int64_t k = r.pairs(), m = r.local_rows();
   const std::int64_t hcount = static_cast<std::int64_t>(r.history.size());
+  const SolveResult facts = replicated_from_root(comm, r);
   h5::Handle root(H5Gopen2(file, "/", H5P_DEFAULT));
   LODESTONE_TRY(agree(comm, root.valid() ? Status::ok() : Status::input("cannot open the root group")));
-  LODESTONE_TRY(agree(comm, write_attributes(root.get(), r, r.ranks > 0 ? r.ranks : comm_size(comm))));
+  LODESTONE_TRY(agree(comm, write_attributes(root.get(), facts, facts.ranks)));
 
-  std::vector<double> imag = r.eigenvalues_imag;
-  if (imag.empty()) imag.assign(static_cast<std::size_t>(k), 0.0);
-  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvalues, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.eigenvalues));
-  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvaluesImag, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, imag));
-  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kResidualNorms, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.residual_norms));
+  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvalues, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, facts.eigenvalues));
+  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvaluesImag, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE,
+                                 facts.eigenvalues_imag));
+  LODESTONE_TRY(
+      write_replicated(comm, root.get(), rl::kResidualNorms, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, facts.residual_norms));
 
   // Eigenvectors: this rank's rows, turned from column-by-column to row-major piece by piece.
   {
@@ -181,7 +224,7 @@ static Status write_contents(MPI_Comm comm, hid_t file, const SolveResult& r, st
   LODESTONE_TRY(agree(comm, group.status()));
   std::vector<std::int64_t> iteration, matvecs, converged;
   std::vector<double> seconds, estimates, residuals;
-  for (const auto& rec : r.history) {
+  for (const auto& rec : facts.history) {
     iteration.push_back(rec.iteration);
     matvecs.push_back(rec.matvecs);
     converged.push_back(rec.converged);

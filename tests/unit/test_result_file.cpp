@@ -279,3 +279,19 @@ TEST(ResultFile, EigenvectorsMoveInPieces) {
   ASSERT_TRUE(read.is_ok()) << read.status().message();
   expect_closed_form_rows(*read);
 }
+
+TEST(ResultFile, RankZeroFactsAreWritten) {
+  // A fact measured on each rank may differ between ranks; the file holds rank 0's.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  RowRange mine = even_split(kN, comm_rank(comm), comm_size(comm));
+  auto r = test::laplace1d_result(comm, kN, kK, mine.begin, mine.end, 5);
+  r.elapsed_seconds = 1.5 + comm_rank(comm);
+  if (comm_rank(comm) != 0) r.method = "different";
+  std::string path = test::temp_path(comm, "result-facts.h5");
+  Status s = write_result(comm, path, r);
+  ASSERT_TRUE(s.is_ok()) << s.message();
+  auto read = read_result(comm, path, mine.begin, mine.end);
+  ASSERT_TRUE(read.is_ok()) << read.status().message();
+  EXPECT_EQ(read->elapsed_seconds, 1.5);
+  EXPECT_EQ(read->method, "block");
+}
