@@ -91,14 +91,21 @@ class PowerMethod final : public SubspaceMethod {
     prev_best_ = best;
     window_best_ = INFINITY;
     const double relative = best / problem_.norm_estimate;
-    // Stalled: a whole window brought less than 3% improvement while far from any tolerance.
-    if (std::isfinite(before) && best > 0.97 * before && relative > 1e-3) {
+    if (!(std::isfinite(before) && best > 0.97 * before && relative > 1e-3)) return Status::ok();
+    // A slow hand-over between two close eigenvalues also plateaus, but then the
+    // iterate still behaves like one eigenvector: ||(A - sigma) x|| ~ |theta - sigma|.
+    // Two eigenvalues of equal modulus (or a complex pair) make the growth exceed it.
+    const double wn = algebra::column_norms(w_)[0];
+    const double theta = ritz_re_[0];
+    const double growth = std::sqrt(std::max(0.0, wn * wn - 2.0 * sigma_ * theta + sigma_ * sigma_));
+    const double ratio = growth / std::max(std::fabs(theta - sigma_), 1e-300);
+    if (ratio > 1.01) {
       return Status::input(fmt::format(
           "the power method stalled on pair {}: after {} iterations its residual is still {:.3e} "
-          "({:.1e} of ||A||_est) and no longer shrinking. The dominant remaining eigenvalue is probably "
-          "complex, or shares its modulus with another (+-lambda); one vector cannot separate them. "
-          "Use --method block.",
-          locked_ + 1, since_lock_, best, relative));
+          "({:.1e} of ||A||_est) and no longer shrinking, while ||(A - shift) x|| is {:.3g} times the "
+          "Rayleigh quotient. The dominant remaining eigenvalue is complex, or shares its modulus with "
+          "another (+-lambda); one vector cannot separate them. Use --method block.",
+          locked_ + 1, since_lock_, best, relative, ratio));
     }
     return Status::ok();
   }
