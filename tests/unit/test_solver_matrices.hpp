@@ -5,6 +5,7 @@
 
 #include <petscmat.h>
 
+#include <algorithm>
 #include <functional>
 #include <string>
 #include <utility>
@@ -67,7 +68,13 @@ inline Result<Matrix> build_file(MPI_Comm comm, std::int64_t n, bool symmetric, 
       e.clear();
       rule(i, e);
       std::sort(e.begin(), e.end());
-      for (auto [j, v] : e) rows.columns.push_back(j), rows.values.push_back(v);
+      for (std::size_t k = 0; k < e.size(); ++k) {
+        if (k > 0 && e[k].first == e[k - 1].first) {
+          rows.values.back() += e[k].second;  // the rule may name a column twice: entries add up
+          continue;
+        }
+        rows.columns.push_back(e[k].first), rows.values.push_back(e[k].second);
+      }
       rows.offsets.push_back(static_cast<std::int64_t>(rows.columns.size()));
     }
     s = io::write_csr_file(comm, path, "/matrix", n, symmetric, rows);
