@@ -53,6 +53,7 @@ int main(int argc, char** argv) {
       cli::make_generate_command(app),
       cli::make_inspect_command(app),
       cli::make_solve_command(app),
+      cli::make_verify_command(app),
   };
   try {
     app.parse(static_cast<int>(ours.size()), ours.data());
