@@ -42,7 +42,7 @@ Command make_solve_command(CLI::App& root) {
   CLI::App* app = root.add_subcommand("solve", "Find K wanted eigenpairs of a matrix file, with residuals");
   app->add_option("matrix", args->matrix, "matrix file (HDF5, Lodestone layout)")->required();
   app->add_option("--pairs,-k", args->solve.pairs, "number of eigenpairs K")->required()->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
-  app->add_option("--out,-o", args->out, "results file to write (HDF5)");
+  app->add_option("--out,-o", args->out, "results file to write (HDF5, written atomically)")->required();
   app->add_option("--select", args->solve.selection, "which pairs: magnitude (largest |lambda|), largest, smallest (symmetric only)")
       ->check(CLI::IsMember({"magnitude", "largest", "smallest"}))
       ->capture_default_str();
@@ -80,6 +80,7 @@ Command make_solve_command(CLI::App& root) {
             if (!args->quiet) o.note = [](const std::string& s) { std::fprintf(stderr, "%s\n", s.c_str()); };
             auto r = solve(*m, o);
             if (!r) return r.status();
+            if (!args->out.empty()) LODESTONE_TRY(write_result(comm, args->out, *r, {args->matrix}));
             if (!args->quiet) print_once(comm, closing_table(*r, o.pairs));
             if (r->converged < o.pairs)
               return Status::budget(fmt::format("the matvec budget ({}) ran out with {} of {} pairs converged{}",
