@@ -102,6 +102,8 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   problem.block_size = static_cast<int>(std::min<std::int64_t>(options.block_size, info.rows));
   problem.tolerance = options.tolerance;
   problem.norm_estimate = *norm > 0 ? *norm : 1.0;
+  // Every rank must test convergence against the very same number.
+  MPI_Bcast(&problem.norm_estimate, 1, MPI_DOUBLE, 0, comm);
   problem.seed = options.seed;
   problem.has_shift = options.has_shift;
   problem.shift = options.shift;
