@@ -141,7 +141,9 @@ TEST(MethodNonsymmetric, RandomDenseAndCsrAgainstLapack) {
     EXPECT_EQ(r->converged, r->pairs());
     expect_match(*r, ref, 1e-6);
     for (std::int64_t j = 0; j < r->pairs(); ++j)
-      if (r->eigenvalues_imag[j] == 0.0) EXPECT_LE(test::recomputed_residual(*m, *r, j), 2 * r->tolerance * r->norm_estimate);
+      if (r->eigenvalues_imag[j] == 0.0) {
+        EXPECT_LE(test::recomputed_residual(*m, *r, j), 2 * r->tolerance * r->norm_estimate);
+      }
     auto a = solve(*m, test::quiet_options(2, "auto", "magnitude"));
     ASSERT_TRUE(a.is_ok()) << a.status().message();
     EXPECT_EQ(a->method, "block");
