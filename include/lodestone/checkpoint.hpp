@@ -57,6 +57,16 @@ struct Checkpoint {
   std::string note;                 // set when the previous generation was used, and why
 };
 
+// How a solve checkpoints and stops early (SolveOptions::checkpoint).
+struct CheckpointPlan {
+  std::string path;                  // empty: no checkpoints, no early stop
+  bool resume = false;               // continue from `path` if it (or its previous generation) exists
+  double every_seconds = 0;          // 0: the default cadence (10 min, or 5% of a time budget)
+  double time_budget_seconds = 0;    // 0: none; otherwise stop in time, counted from clock_start
+  double clock_start = -1;           // MPI_Wtime() when the job started; < 0: when the solve starts
+  std::vector<std::string> inputs;   // files the checkpoint must never overwrite
+};
+
 // The checkpoint layout version this build writes and the newest it reads.
 inline constexpr std::int64_t kCheckpointFormatVersion = 1;
 
