@@ -55,7 +55,7 @@ interrupt() {
     kill -0 "$bg" 2>/dev/null || break
     sleep 0.02
   done
-  sleep "0.$(printf '%03d' $((RANDOM % 300)))"
+  sleep "0.$(printf '%03d' $((RANDOM % 100)))"
   local pids=()
   # The ranks: children of mpirun, which is the child of timeout.
   for m in $(pgrep -P "$bg" || true); do for r in $(pgrep -P "$m" || true); do pids+=("$r"); done; done
