@@ -88,6 +88,8 @@ Status SolveSession::boundary(methods::Method& method, algebra::Operator& op,
                               double iteration_seconds) {
   if (!active()) return Status::ok();
   clock_.iteration_finished(iteration_seconds);
+  // Every wanted pair converged: the solve finishes now, nothing to save or stop.
+  if (method.converged() >= pairs) return Status::ok();
   const BoundaryDecision d = clock_.at_boundary();
   if (d.checkpoint_due) LODESTONE_TRY(write(method, op, history, pairs, solve_seconds));
   if (!d.stop()) return Status::ok();
