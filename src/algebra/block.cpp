@@ -168,7 +168,7 @@ void local_gram(const Block& x, int x_cols, const Block& y, double* out) {
 Small gram(const Block& x, const Block& y) {
   Small g(x.cols(), y.cols());
   local_gram(x, x.cols(), y, g.data());
-  if (!g.a.empty()) MPI_Allreduce(MPI_IN_PLACE, g.data(), static_cast<int>(g.a.size()), MPI_DOUBLE, MPI_SUM, x.comm());
+  if (!g.a.empty()) sum_replicated(x.comm(), g.data(), static_cast<int>(g.a.size()));
   return g;
 }
 
@@ -178,7 +178,7 @@ void gram2(const Block& x, const Block& z, const Block& y, Small& xy, Small& zy)
   std::vector<double> buf(xy.a.size() + zy.a.size());
   local_gram(x, x.cols(), y, buf.data());
   local_gram(z, z.cols(), y, buf.data() + xy.a.size());
-  if (!buf.empty()) MPI_Allreduce(MPI_IN_PLACE, buf.data(), static_cast<int>(buf.size()), MPI_DOUBLE, MPI_SUM, x.comm());
+  if (!buf.empty()) sum_replicated(x.comm(), buf.data(), static_cast<int>(buf.size()));
   std::copy(buf.begin(), buf.begin() + static_cast<std::ptrdiff_t>(xy.a.size()), xy.a.begin());
   std::copy(buf.begin() + static_cast<std::ptrdiff_t>(xy.a.size()), buf.end(), zy.a.begin());
 }
@@ -191,7 +191,7 @@ std::vector<double> column_norms(const Block& x) {
     for (PetscInt i = 0; i < x.local_rows(); ++i) acc += p[i] * p[i];
     s[static_cast<std::size_t>(j)] = acc;
   }
-  if (!s.empty()) MPI_Allreduce(MPI_IN_PLACE, s.data(), static_cast<int>(s.size()), MPI_DOUBLE, MPI_SUM, x.comm());
+  if (!s.empty()) sum_replicated(x.comm(), s.data(), static_cast<int>(s.size()));
   for (double& v : s) v = std::sqrt(v);
   return s;
 }
@@ -201,7 +201,7 @@ void project_out(const Block& q, int q_cols, Block& x) {
   for (int pass = 0; pass < 2; ++pass) {
     Small c(q_cols, x.cols());
     local_gram(q, q_cols, x, c.data());
-    MPI_Allreduce(MPI_IN_PLACE, c.data(), static_cast<int>(c.a.size()), MPI_DOUBLE, MPI_SUM, x.comm());
+    sum_replicated(x.comm(), c.data(), static_cast<int>(c.a.size()));
     PetscBLASInt m = static_cast<PetscBLASInt>(x.local_rows()), n = x.cols(), k = q_cols;
     if (m > 0) {
       double minus = -1.0, one = 1.0;
@@ -255,7 +255,7 @@ int gram_schmidt(Block& x, const Block* q, int q_cols, std::uint64_t seed, std::
       double* v = x.column(j);
       double before = 0;
       for (PetscInt i = 0; i < m; ++i) before += v[i] * v[i];
-      MPI_Allreduce(MPI_IN_PLACE, &before, 1, MPI_DOUBLE, MPI_SUM, comm);
+      sum_replicated(comm, &before, 1);
       before = std::sqrt(before);
       for (int pass = 0; pass < 2; ++pass) {
         const int nq = q ? q_cols : 0;
@@ -272,7 +272,7 @@ int gram_schmidt(Block& x, const Block* q, int q_cols, std::uint64_t seed, std::
           for (PetscInt i = 0; i < m; ++i) acc += u[i] * v[i];
           c[static_cast<std::size_t>(nq + k)] = acc;
         }
-        if (!c.empty()) MPI_Allreduce(MPI_IN_PLACE, c.data(), static_cast<int>(c.size()), MPI_DOUBLE, MPI_SUM, comm);
+        if (!c.empty()) sum_replicated(comm, c.data(), static_cast<int>(c.size()));
         for (int k = 0; k < nq; ++k) {
           const double* u = q->column(k);
           for (PetscInt i = 0; i < m; ++i) v[i] -= c[static_cast<std::size_t>(k)] * u[i];
@@ -284,7 +284,7 @@ int gram_schmidt(Block& x, const Block* q, int q_cols, std::uint64_t seed, std::
       }
       double after = 0;
       for (PetscInt i = 0; i < m; ++i) after += v[i] * v[i];
-      MPI_Allreduce(MPI_IN_PLACE, &after, 1, MPI_DOUBLE, MPI_SUM, comm);
+      sum_replicated(comm, &after, 1);
       after = std::sqrt(after);
       // A column that lost almost everything to the projection is numerically dependent.
       if (after > 1e-10 * std::max(before, original[static_cast<std::size_t>(j)]) && after > 0) {

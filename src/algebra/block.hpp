@@ -4,7 +4,7 @@
 //
 // Every operation a method needs is here: products with small replicated
 // matrices (local BLAS, no communication), Gram matrices X^T Y (local BLAS and
-// one MPI_Allreduce), orthonormalization (Cholesky QR twice, with a stable
+// one reduction, replicated bit-identically on every rank), orthonormalization (Cholesky QR twice, with a stable
 // column-by-column fallback), projection against a locked set, and start
 // vectors from a counter-based hash of the global row index, so the same seed
 // gives the same block on any number of ranks.

@@ -53,4 +53,12 @@ void broadcast(MPI_Comm comm, std::vector<double>& v) {
   if (n > 0) MPI_Bcast(v.data(), static_cast<int>(n), MPI_DOUBLE, 0, comm);
 }
 
+void sum_replicated(MPI_Comm comm, double* values, int count) {
+  if (count <= 0) return;
+  int rank = 0;
+  MPI_Comm_rank(comm, &rank);
+  MPI_Reduce(rank == 0 ? MPI_IN_PLACE : values, values, count, MPI_DOUBLE, MPI_SUM, 0, comm);
+  MPI_Bcast(values, count, MPI_DOUBLE, 0, comm);
+}
+
 }  // namespace lodestone::algebra

@@ -37,4 +37,10 @@ Small transpose(const Small& a);
 void broadcast(MPI_Comm comm, Small& m);
 void broadcast(MPI_Comm comm, std::vector<double>& v);
 
+// Collective. In-place sum over ranks that leaves every rank with bit-identical
+// values (reduced on rank 0, then broadcast): an MPI_Allreduce may round
+// differently on different ranks, and a decision taken on such a value (a
+// convergence test, a fallback) must be the same everywhere or ranks diverge.
+void sum_replicated(MPI_Comm comm, double* values, int count);
+
 }  // namespace lodestone::algebra

@@ -4,7 +4,6 @@
 
 #include <fmt/format.h>
 #include <mpi.h>
-#include <unistd.h>
 
 #include <chrono>
 #include <cmath>
@@ -115,6 +114,8 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   problem.block_size = static_cast<int>(std::min<std::int64_t>(options.block_size, info.rows));
   problem.tolerance = options.tolerance;
   problem.norm_estimate = *norm > 0 ? *norm : 1.0;
+  // Every rank must test convergence against the very same number.
+  MPI_Bcast(&problem.norm_estimate, 1, MPI_DOUBLE, 0, comm);
   problem.seed = options.seed;
   problem.has_shift = options.has_shift;
   problem.shift = options.shift;
@@ -138,9 +139,8 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     h.seconds = elapsed();
     method->progress(h.estimates, h.residuals);
     h.converged = std::min<std::int64_t>(method->converged(), options.pairs);
-    double seconds = h.seconds;
-    // All ranks must agree on the clock-driven decision to print; only rank 0 prints.
-    progress.maybe_print(seconds, h.iteration, h.matvecs, h.converged, h.residuals,
+    // Only rank 0 prints, so the clock-driven decision needs no agreement.
+    progress.maybe_print(h.seconds, h.iteration, h.matvecs, h.converged, h.residuals,
                          options.tolerance * problem.norm_estimate);
     result.history.push_back(std::move(h));
   };
@@ -166,6 +166,12 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   result.vectors.resize(local * static_cast<std::size_t>(v.cols()));
   for (int j = 0; j < v.cols(); ++j)
     std::copy(v.column(j), v.column(j) + local, result.vectors.begin() + static_cast<std::ptrdiff_t>(j * local));
+  // History records hold one entry per returned pair (fewer than K when a
+  // single-vector run stops on its budget, K+1 when a complex pair ends the list).
+  for (auto& h : result.history) {
+    h.estimates.resize(pairs->re.size(), std::numeric_limits<double>::quiet_NaN());
+    h.residuals.resize(pairs->re.size(), std::numeric_limits<double>::quiet_NaN());
+  }
   result.converged = pairs->converged;
   result.method = method->name();
   result.selection = methods::selection_name(*selection);

@@ -1,9 +1,7 @@
 // `lodestone solve MATRIX.h5 --pairs K --out RESULT.h5 ...`: options in, solve()
 // through the public API, a closing table out. No numerics here.
 #include <fmt/format.h>
-#include <unistd.h>
-
-#include <cmath>
+#include <limits>
 
 #include "cli/command.hpp"
 #include "lodestone/result.hpp"
@@ -14,7 +12,7 @@ namespace lodestone::cli {
 
 namespace {
 
-std::string closing_table(const SolveResult& r, std::int64_t wanted) {
+std::string closing_table(const SolveResult& r) {
   std::string out = fmt::format("{} pair(s) by {} with {}: {} converged, {} matvecs, {} iterations, {:.2f} s on {} rank(s)\n",
                                 r.pairs(), r.selection, r.method, r.converged, r.matvecs, r.iterations,
                                 r.elapsed_seconds, r.ranks);
@@ -24,7 +22,6 @@ std::string closing_table(const SolveResult& r, std::int64_t wanted) {
     out += fmt::format("{:>4}  {:>24.16g}  {:>24.16g}  {:>11.3e}  {}\n", j + 1, r.eigenvalues[j], r.eigenvalues_imag[j],
                        r.residual_norms[j], j < r.converged ? "converged" : "not converged");
   }
-  (void)wanted;
   return out;
 }
 
@@ -107,7 +104,7 @@ Command make_solve_command(CLI::App& root) {
             auto r = solve(*m, o);
             if (!r) return r.status();
             if (!args->out.empty()) LODESTONE_TRY(write_result(comm, args->out, *r, {args->matrix}));
-            if (!args->quiet) print_once(comm, closing_table(*r, o.pairs));
+            if (!args->quiet) print_once(comm, closing_table(*r));
             if (r->converged < o.pairs)
               return Status::budget(fmt::format("the matvec budget ({}) ran out with {} of {} pairs converged{}",
                                                 o.max_matvecs, r->converged, o.pairs,

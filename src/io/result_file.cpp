@@ -4,8 +4,10 @@
 #include <fmt/format.h>
 #include <hdf5.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <utility>
 
 #include "io/atomic_output.hpp"
 #include "io/h5.hpp"
@@ -45,6 +47,20 @@ bool is_result_file(MPI_Comm comm, const std::string& path) {
   }
   MPI_Bcast(&yes, 1, MPI_INT, 0, comm);
   return yes == 1;
+}
+
+// Calls fn(first_local_row, rows) for this rank's m rows in pieces of at most
+// piece_entries values (rows x k). Every rank makes the same number of calls,
+// some with empty pieces, because each call is a collective transfer.
+template <class Fn>
+static Status by_pieces(MPI_Comm comm, std::int64_t m, std::int64_t k, std::int64_t piece_entries, Fn fn) {
+  const std::int64_t rows_per = std::max<std::int64_t>(1, piece_entries / std::max<std::int64_t>(k, 1));
+  const std::int64_t pieces = max_all(comm, (m + rows_per - 1) / rows_per);
+  for (std::int64_t p = 0; p < pieces; ++p) {
+    const std::int64_t first = std::min(m, p * rows_per);
+    LODESTONE_TRY(agree(comm, fn(first, std::min(m, first + rows_per) - first)));
+  }
+  return Status::ok();
 }
 
 // ---------------------------------------------------------------- writing
@@ -117,6 +133,47 @@ static Status write_replicated_rows(MPI_Comm comm, hid_t loc, const char* name, 
   return agree(comm, h5::write_rows(ds->get(), H5T_NATIVE_DOUBLE, 0, root ? rows : 0, cols, values.data()));
 }
 
+// The replicated facts as rank 0 has them. HDF5 needs identical attribute
+// values from every rank, and a fact measured per rank (elapsed seconds, say)
+// may differ in the last bit; rank 0's copy is the one written.
+static SolveResult replicated_from_root(MPI_Comm comm, const SolveResult& r) {
+  SolveResult out;
+  out.eigenvalues = r.eigenvalues;
+  out.eigenvalues_imag = r.eigenvalues_imag;
+  if (out.eigenvalues_imag.empty()) out.eigenvalues_imag.assign(r.eigenvalues.size(), 0.0);
+  out.residual_norms = r.residual_norms;
+  out.history = r.history;
+  const auto k = static_cast<int>(r.eigenvalues.size());  // agreed across ranks already
+  MPI_Bcast(out.eigenvalues.data(), k, MPI_DOUBLE, 0, comm);
+  MPI_Bcast(out.eigenvalues_imag.data(), k, MPI_DOUBLE, 0, comm);
+  MPI_Bcast(out.residual_norms.data(), k, MPI_DOUBLE, 0, comm);
+  double d[3] = {r.tolerance, r.norm_estimate, r.elapsed_seconds};
+  std::int64_t i[4] = {r.converged, r.matvecs, r.iterations, r.ranks > 0 ? r.ranks : comm_size(comm)};
+  std::uint64_t fp = r.matrix_fingerprint;
+  MPI_Bcast(d, 3, MPI_DOUBLE, 0, comm);
+  MPI_Bcast(i, 4, MPI_INT64_T, 0, comm);
+  MPI_Bcast(&fp, 1, MPI_UINT64_T, 0, comm);
+  out.tolerance = d[0], out.norm_estimate = d[1], out.elapsed_seconds = d[2];
+  out.converged = i[0], out.matvecs = i[1], out.iterations = i[2], out.ranks = i[3];
+  out.matrix_fingerprint = fp;
+  for (auto [from, to] : {std::pair{&r.method, &out.method}, std::pair{&r.selection, &out.selection}}) {
+    int len = static_cast<int>(from->size());
+    MPI_Bcast(&len, 1, MPI_INT, 0, comm);
+    *to = *from;
+    to->resize(static_cast<std::size_t>(len));
+    MPI_Bcast(to->data(), len, MPI_CHAR, 0, comm);
+  }
+  for (auto& rec : out.history) {
+    std::int64_t ints[3] = {rec.iteration, rec.matvecs, rec.converged};
+    MPI_Bcast(ints, 3, MPI_INT64_T, 0, comm);
+    rec.iteration = ints[0], rec.matvecs = ints[1], rec.converged = ints[2];
+    MPI_Bcast(&rec.seconds, 1, MPI_DOUBLE, 0, comm);
+    MPI_Bcast(rec.estimates.data(), k, MPI_DOUBLE, 0, comm);
+    MPI_Bcast(rec.residuals.data(), k, MPI_DOUBLE, 0, comm);
+  }
+  return out;
+}
+
 static Status write_attributes(hid_t root, const SolveResult& r, std::int64_t ranks) {
   LODESTONE_TRY(h5::write_string_attribute(root, rl::kFileKind, rl::kFileKindValue));
   LODESTONE_TRY(h5::write_int_attribute(root, rl::kFormat, rl::kFormatVersion));
@@ -133,29 +190,33 @@ static Status write_attributes(hid_t root, const SolveResult& r, std::int64_t ra
   return Status::ok();
 }
 
-static Status write_contents(MPI_Comm comm, hid_t file, const SolveResult& r) {
+static Status write_contents(MPI_Comm comm, hid_t file, const SolveResult& r, std::int64_t piece_entries) {
   const std::int64_t k = r.pairs(), m = r.local_rows();
   const std::int64_t hcount = static_cast<std::int64_t>(r.history.size());
+  const SolveResult facts = replicated_from_root(comm, r);
   h5::Handle root(H5Gopen2(file, "/", H5P_DEFAULT));
   LODESTONE_TRY(agree(comm, root.valid() ? Status::ok() : Status::input("cannot open the root group")));
-  LODESTONE_TRY(agree(comm, write_attributes(root.get(), r, r.ranks > 0 ? r.ranks : comm_size(comm))));
+  LODESTONE_TRY(agree(comm, write_attributes(root.get(), facts, facts.ranks)));
 
-  std::vector<double> imag = r.eigenvalues_imag;
-  if (imag.empty()) imag.assign(static_cast<std::size_t>(k), 0.0);
-  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvalues, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.eigenvalues));
-  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvaluesImag, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, imag));
-  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kResidualNorms, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, r.residual_norms));
+  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvalues, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, facts.eigenvalues));
+  LODESTONE_TRY(write_replicated(comm, root.get(), rl::kEigenvaluesImag, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE,
+                                 facts.eigenvalues_imag));
+  LODESTONE_TRY(
+      write_replicated(comm, root.get(), rl::kResidualNorms, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, facts.residual_norms));
 
-  // Eigenvectors: this rank's rows, turned from column-by-column to row-major.
+  // Eigenvectors: this rank's rows, turned from column-by-column to row-major piece by piece.
   {
-    std::vector<double> rowmajor(static_cast<std::size_t>(m * k));
-    for (std::int64_t j = 0; j < k; ++j)
-      for (std::int64_t i = 0; i < m; ++i)
-        rowmajor[static_cast<std::size_t>(i * k + j)] = r.vectors[static_cast<std::size_t>(j * m + i)];
     auto ds = h5::create_dataset(root.get(), rl::kEigenvectors, H5T_IEEE_F64LE, {r.rows, k});
     LODESTONE_TRY(agree(comm, ds.status()));
+    std::vector<double> rowmajor;
     if (k > 0)
-      LODESTONE_TRY(agree(comm, h5::write_rows(ds->get(), H5T_NATIVE_DOUBLE, r.row_begin, m, k, rowmajor.data())));
+      LODESTONE_TRY(by_pieces(comm, m, k, piece_entries, [&](std::int64_t first, std::int64_t rows) {
+        rowmajor.resize(static_cast<std::size_t>(rows * k));
+        for (std::int64_t j = 0; j < k; ++j)
+          for (std::int64_t i = 0; i < rows; ++i)
+            rowmajor[static_cast<std::size_t>(i * k + j)] = r.vectors[static_cast<std::size_t>(j * m + first + i)];
+        return h5::write_rows(ds->get(), H5T_NATIVE_DOUBLE, r.row_begin + first, rows, k, rowmajor.data());
+      }));
   }
 
   // History: replicated on every rank, written from rank 0's selection.
@@ -163,7 +224,7 @@ static Status write_contents(MPI_Comm comm, hid_t file, const SolveResult& r) {
   LODESTONE_TRY(agree(comm, group.status()));
   std::vector<std::int64_t> iteration, matvecs, converged;
   std::vector<double> seconds, estimates, residuals;
-  for (const auto& rec : r.history) {
+  for (const auto& rec : facts.history) {
     iteration.push_back(rec.iteration);
     matvecs.push_back(rec.matvecs);
     converged.push_back(rec.converged);
@@ -182,14 +243,14 @@ static Status write_contents(MPI_Comm comm, hid_t file, const SolveResult& r) {
 }
 
 Status write_result_file(MPI_Comm comm, const std::string& path, const SolveResult& result,
-                         const std::vector<std::string>& inputs) {
+                         const std::vector<std::string>& inputs, std::int64_t piece_entries) {
   LODESTONE_TRY(agree(comm, check_local(result)));
   LODESTONE_TRY(check_across(comm, result));
   auto out = AtomicOutput::begin(comm, path, inputs);
   if (!out) return out.status();
   auto file = h5::create(comm, out->temp_path());
   if (!file) return file.status();
-  Status s = write_contents(comm, file->get(), result);
+  Status s = write_contents(comm, file->get(), result, piece_entries);
   bool closed = file->close_file();
   if (s && !closed) s = Status::input(fmt::format("{}: could not finish writing (disk full or file-size limit?)", path));
   if (!s) s = Status::input(fmt::format("{}: {}", path, s.message()));
@@ -363,7 +424,7 @@ Result<ResultHeader> read_result_header(MPI_Comm comm, const std::string& path) 
 }
 
 Result<SolveResult> read_result_file(MPI_Comm comm, const std::string& path, std::int64_t row_begin,
-                                     std::int64_t row_end) {
+                                     std::int64_t row_end, std::int64_t piece_entries) {
   auto opened = open_result(comm, path);
   if (!opened) return opened.status();
   const ResultHeader& h = opened->header;
@@ -396,15 +457,19 @@ Result<SolveResult> read_result_file(MPI_Comm comm, const std::string& path, std
   r.elapsed_seconds = h.elapsed_seconds;
 
   const std::int64_t k = h.pairs, m = row_end - row_begin;
-  {
-    std::vector<double> rowmajor(static_cast<std::size_t>(m * k));
+  r.vectors.resize(static_cast<std::size_t>(m * k));
+  if (k > 0) {
     h5::Handle ds(H5Dopen2(file, (std::string("/") + rl::kEigenvectors).c_str(), H5P_DEFAULT));
-    Status s = k == 0 ? Status::ok() : h5::read_rows(ds.get(), H5T_NATIVE_DOUBLE, row_begin, m, k, rowmajor.data());
-    LODESTONE_TRY(agree(comm, s ? s : fail(fmt::format("dataset 'eigenvectors': {}", s.message()))));
-    r.vectors.resize(static_cast<std::size_t>(m * k));
-    for (std::int64_t i = 0; i < m; ++i)
-      for (std::int64_t j = 0; j < k; ++j)
-        r.vectors[static_cast<std::size_t>(j * m + i)] = rowmajor[static_cast<std::size_t>(i * k + j)];
+    std::vector<double> rowmajor;
+    LODESTONE_TRY(by_pieces(comm, m, k, piece_entries, [&](std::int64_t first, std::int64_t rows) {
+      rowmajor.resize(static_cast<std::size_t>(rows * k));
+      Status s = h5::read_rows(ds.get(), H5T_NATIVE_DOUBLE, row_begin + first, rows, k, rowmajor.data());
+      if (!s) return fail(fmt::format("dataset 'eigenvectors': {}", s.message()));
+      for (std::int64_t i = 0; i < rows; ++i)
+        for (std::int64_t j = 0; j < k; ++j)
+          r.vectors[static_cast<std::size_t>(j * m + first + i)] = rowmajor[static_cast<std::size_t>(i * k + j)];
+      return Status::ok();
+    }));
   }
 
   const std::int64_t hc = h.history;

@@ -84,10 +84,16 @@ bool is_result_file(MPI_Comm comm, const std::string& path);
 // shape, but not the eigenvectors or the history arrays.
 Result<ResultHeader> read_result_header(MPI_Comm comm, const std::string& path);
 
-// Collective. See lodestone::write_result / read_result.
+// Eigenvector rows move between memory and file in pieces of at most this many
+// values per rank and transfer: one MPI-IO transfer stays far below its 2 GiB
+// limit, and the row-major staging buffer stays small (32 MiB).
+inline constexpr std::int64_t kResultPieceEntries = std::int64_t{1} << 22;
+
+// Collective. See lodestone::write_result / read_result. Tests pass a small
+// piece_entries to exercise the piecewise transfer.
 Status write_result_file(MPI_Comm comm, const std::string& path, const SolveResult& result,
-                         const std::vector<std::string>& inputs);
+                         const std::vector<std::string>& inputs, std::int64_t piece_entries = kResultPieceEntries);
 Result<SolveResult> read_result_file(MPI_Comm comm, const std::string& path, std::int64_t row_begin,
-                                     std::int64_t row_end);
+                                     std::int64_t row_end, std::int64_t piece_entries = kResultPieceEntries);
 
 }  // namespace lodestone::io

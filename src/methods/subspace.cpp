@@ -120,7 +120,7 @@ Status SubspaceMethod::rayleigh_ritz() {
       }
       res[j] = acc;
     }
-    MPI_Allreduce(MPI_IN_PLACE, res.data(), b, MPI_DOUBLE, MPI_SUM, comm_);
+    algebra::sum_replicated(comm_, res.data(), b);
     for (int j = 0; j < b; ++j) ritz_res_[j] = std::sqrt(res[j]);
     return Status::ok();
   }
@@ -307,7 +307,7 @@ Result<Pairs> SubspaceMethod::extract() {
       sq[j] = acc;
     }
   }
-  MPI_Allreduce(MPI_IN_PLACE, sq.data(), m, MPI_DOUBLE, MPI_SUM, comm_);
+  algebra::sum_replicated(comm_, sq.data(), m);
   std::vector<double> res(m);
   for (int j = 0; j < m; ++j) {
     if (im[j] > 0 && j + 1 < m) {

@@ -55,6 +55,9 @@ done
 expect 4 "matvec budget (60) ran out" run 2 "$LODESTONE" solve "$tmp/plate.h5" --pairs 6 --method block --max-matvecs 60 --out "$tmp/budget.h5"
 [ -f "$tmp/budget.h5" ] || fail "no results file after the budget ran out"
 expect 0 "" run 1 "$LODESTONE" verify "$tmp/plate.h5" "$tmp/budget.h5"
+# The single-vector method stopped by its budget writes what it has too.
+expect 4 "matvec budget (30) ran out" run 2 "$LODESTONE" solve "$tmp/plate.h5" --pairs 3 --method power --max-matvecs 30 --out "$tmp/budget-power.h5"
+[ -f "$tmp/budget-power.h5" ] || fail "no results file after the power method's budget ran out"
 
 # --quiet prints nothing on success.
 run 1 "$LODESTONE" solve "$tmp/plate.h5" --pairs 2 --quiet --out "$tmp/q.h5" >"$tmp/q.out" 2>&1

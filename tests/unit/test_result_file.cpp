@@ -58,8 +58,12 @@ void expect_same_facts(const SolveResult& a, const SolveResult& b) {
       // NaN marks locked pairs and must survive the round trip.
       EXPECT_EQ(std::isnan(x.estimates[p]), std::isnan(y.estimates[p]));
       EXPECT_EQ(std::isnan(x.residuals[p]), std::isnan(y.residuals[p]));
-      if (!std::isnan(x.residuals[p])) EXPECT_EQ(x.residuals[p], y.residuals[p]);
-      if (!std::isnan(x.estimates[p])) EXPECT_EQ(x.estimates[p], y.estimates[p]);
+      if (!std::isnan(x.residuals[p])) {
+        EXPECT_EQ(x.residuals[p], y.residuals[p]);
+      }
+      if (!std::isnan(x.estimates[p])) {
+        EXPECT_EQ(x.estimates[p], y.estimates[p]);
+      }
     }
   }
 }
@@ -231,4 +235,63 @@ TEST(ResultFile, ReadErrorsAreClear) {
   auto beyond = read_result(comm, path, last ? kN - 1 : 0, last ? kN + 5 : 0);
   ASSERT_FALSE(beyond.is_ok());
   EXPECT_NE(beyond.status().message().find("rows"), std::string::npos) << beyond.status().message();
+}
+
+TEST(ResultFile, NoPairsAtAll) {
+  // A run that returns nothing (K = 0) still writes a well-formed file.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  RowRange mine = even_split(kN, comm_rank(comm), comm_size(comm));
+  SolveResult r;
+  r.rows = kN;
+  r.row_begin = mine.begin;
+  r.row_end = mine.end;
+  r.method = "power";
+  r.selection = "magnitude";
+  r.history.resize(2);
+  r.history[1].iteration = 1;
+  std::string path = test::temp_path(comm, "result-empty.h5");
+  Status s = write_result(comm, path, r);
+  ASSERT_TRUE(s.is_ok()) << s.message();
+  auto read = read_result(comm, path, mine.begin, mine.end);
+  ASSERT_TRUE(read.is_ok()) << read.status().message();
+  EXPECT_EQ(read->pairs(), 0);
+  EXPECT_TRUE(read->vectors.empty());
+  ASSERT_EQ(read->history.size(), 2u);
+  EXPECT_EQ(read->history[1].iteration, 1);
+  EXPECT_EQ(read->ranks, comm_size(comm));  // 0 in the SolveResult means "the writing communicator's size"
+}
+
+TEST(ResultFile, EigenvectorsMoveInPieces) {
+  // Pieces of 9 values (2 rows of 4 pairs): many collective transfers per rank,
+  // with ranks holding different numbers of pieces. Written and read in pieces
+  // of different sizes, the vectors must come back exactly.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const int rank = comm_rank(comm), size = comm_size(comm);
+  // Uneven blocks: the last rank holds most rows.
+  const std::int64_t per = kN / (2 * size);
+  const std::int64_t begin = rank * per, end = rank == size - 1 ? kN : (rank + 1) * per;
+  auto r = test::laplace1d_result(comm, kN, kK, begin, end, 99);
+  std::string path = test::temp_path(comm, "result-pieces.h5");
+  Status s = io::write_result_file(comm, path, r, {}, 9);
+  ASSERT_TRUE(s.is_ok()) << s.message();
+  RowRange mine = even_split(kN, rank, size);
+  auto read = io::read_result_file(comm, path, mine.begin, mine.end, 5);
+  ASSERT_TRUE(read.is_ok()) << read.status().message();
+  expect_closed_form_rows(*read);
+}
+
+TEST(ResultFile, RankZeroFactsAreWritten) {
+  // A fact measured on each rank may differ between ranks; the file holds rank 0's.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  RowRange mine = even_split(kN, comm_rank(comm), comm_size(comm));
+  auto r = test::laplace1d_result(comm, kN, kK, mine.begin, mine.end, 5);
+  r.elapsed_seconds = 1.5 + comm_rank(comm);
+  if (comm_rank(comm) != 0) r.method = "different";
+  std::string path = test::temp_path(comm, "result-facts.h5");
+  Status s = write_result(comm, path, r);
+  ASSERT_TRUE(s.is_ok()) << s.message();
+  auto read = read_result(comm, path, mine.begin, mine.end);
+  ASSERT_TRUE(read.is_ok()) << read.status().message();
+  EXPECT_EQ(read->elapsed_seconds, 1.5);
+  EXPECT_EQ(read->method, "block");
 }
