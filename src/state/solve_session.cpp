@@ -29,9 +29,10 @@ Result<std::unique_ptr<SolveSession>> SolveSession::open(const Matrix& matrix, c
 SolveSession::SolveSession(const Matrix& matrix, CheckpointPlan plan, RunIdentity identity, RunClock clock)
     : matrix_(matrix), plan_(std::move(plan)), identity_(std::move(identity)), clock_(std::move(clock)) {}
 
-SolveSession::~SolveSession() {
-  if (active()) restore_stop_handlers();
-}
+// The stop handlers stay installed until the process ends: a signal that
+// arrives after the last boundary (while the results are written) is too late
+// to stop anything, and the command finishes normally instead of dying.
+SolveSession::~SolveSession() = default;
 
 Result<bool> SolveSession::resume(methods::Method& method, algebra::Operator& op, const methods::Problem& problem,
                                   std::vector<HistoryRecord>& history, double& seconds_before,

@@ -22,7 +22,7 @@ py=/usr/bin/python3   # Debian's python3 carries numpy and h5py
 fail() { echo "FAIL: $*" >&2; exit 1; }
 RANDOM=2718           # the same random instants on every run
 
-"$LODESTONE" generate laplace2d --nx 16 --ny 12 "$tmp/sym.h5" >/dev/null
+"$LODESTONE" generate laplace2d --nx 24 --ny 18 "$tmp/sym.h5" >/dev/null
 "$py" - "$tmp/ns.h5" <<'PY'
 import sys, h5py, numpy as np
 # Upper triangular: its eigenvalues are its diagonal (a standard linear-algebra fact).
@@ -129,7 +129,7 @@ check_against ns-3-2 "$tmp/ns-ref.h5" 1
 
 # Five stops and resumes on varying rank counts, then the finish (a larger
 # Laplacian, so that the run lasts long enough for five stops).
-"$LODESTONE" generate laplace2d --nx 24 --ny 18 "$tmp/mid.h5" >/dev/null
+"$LODESTONE" generate laplace2d --nx 40 --ny 30 "$tmp/mid.h5" >/dev/null
 run 3 "$LODESTONE" solve "$tmp/mid.h5" "${SYM[@]}" --quiet --out "$tmp/mid-ref.h5"
 ck="$tmp/five.ckpt.h5"
 stops=0
@@ -153,13 +153,18 @@ rc=0
 run 2 "$LODESTONE" solve "$tmp/ns.h5" "${SYM[@]}" --checkpoint "$ck" --resume --out "$tmp/x.h5" >"$tmp/ref.out" 2>&1 || rc=$?
 [[ "$rc" == 1 ]] && grep -q "different matrix" "$tmp/ref.out" || { cat "$tmp/ref.out"; fail "different matrix: exit $rc"; }
 
-# --time-budget: stops by itself with status 3, its checkpoint resumes and advances.
-"$LODESTONE" generate laplace2d --nx 40 --ny 30 "$tmp/big.h5" >/dev/null
+# --time-budget: stops by itself with status 3; its checkpoint resumes (and a
+# second budgeted job either stops again further on or finishes).
+"$LODESTONE" generate laplace2d --nx 60 --ny 45 "$tmp/big.h5" >/dev/null
 ck="$tmp/budget.ckpt.h5"
 for pass in 1 2; do
   rc=0
-  run 2 "$LODESTONE" solve "$tmp/big.h5" "${SYM[@]}" --checkpoint "$ck" --resume --time-budget 3s --quiet \
-    --out "$tmp/x.h5" >"$tmp/b.out" 2>&1 || rc=$?
+  run 2 "$LODESTONE" solve "$tmp/big.h5" "${SYM[@]}" --checkpoint "$ck" --resume --time-budget 3s \
+    --out "$tmp/budget.h5" >"$tmp/b.out" 2>&1 || rc=$?
+  if [[ "$pass" == 2 ]]; then
+    grep -q "resuming from" "$tmp/b.out" || { cat "$tmp/b.out"; fail "budget pass 2 did not resume"; }
+    [[ "$rc" == 0 ]] && { run 1 "$LODESTONE" verify "$tmp/big.h5" "$tmp/budget.h5" >/dev/null; break; }
+  fi
   [[ "$rc" == 3 ]] && grep -q "stopped before the time budget" "$tmp/b.out" || { cat "$tmp/b.out"; fail "budget pass $pass: exit $rc"; }
   run 1 "$LODESTONE" inspect "$ck" >"$tmp/inspect.out"
   it=$(sed -n 's/^done *\([0-9]*\) iterations.*/\1/p' "$tmp/inspect.out")
