@@ -20,6 +20,7 @@
 #include <functional>
 #include <string>
 
+#include "lodestone/checkpoint.hpp"
 #include "lodestone/matrix.hpp"
 #include "lodestone/result.hpp"
 #include "lodestone/status.hpp"
@@ -37,6 +38,9 @@ struct SolveOptions {
   double shift = 0.0;
   std::int64_t block_size = 0;           // block and chebyshev; 0: K plus a few
   double progress_seconds = 5.0;         // progress lines on rank 0 (stderr); <= 0: none
+  // Checkpoints, resume and early stop (checkpoint.hpp); no path: none. A solve
+  // stopped early returns Status::stopped after writing the checkpoint.
+  CheckpointPlan checkpoint;
   // Receives one-line notes for a person (e.g. which method `auto` picked); rank 0 only.
   std::function<void(const std::string&)> note;
 };

@@ -12,6 +12,7 @@
 
 #include "algebra/operator.hpp"
 #include "methods/method.hpp"
+#include "state/solve_session.hpp"
 #include "support/collective.hpp"
 #include "support/format.hpp"
 
@@ -61,6 +62,18 @@ class ProgressReporter {
   double last_worst_ = 0;
 };
 
+// The options a checkpoint must be resumed with (checkpoint.hpp).
+RunIdentity checkpoint_identity(const MatrixInfo& info, const SolveOptions& o, const std::string& method) {
+  RunIdentity id;
+  id.matrix_fingerprint = info.fingerprint;
+  id.rows = info.rows;
+  id.options = {{"pairs", std::to_string(o.pairs)}, {"selection", o.selection}, {"method", method},
+                {"tolerance", fmt::format("{}", o.tolerance)}, {"seed", std::to_string(o.seed)},
+                {"block_size", std::to_string(o.block_size)},
+                {"shift", o.has_shift ? fmt::format("{}", o.shift) : "none"}};
+  return id;
+}
+
 }  // namespace
 
 Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
@@ -109,11 +122,16 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
 
   algebra::Operator op(matrix.petsc());
   auto method = entry->make();
-  LODESTONE_TRY(method->setup(op, problem));
-
+  auto session = state::SolveSession::open(matrix, options.checkpoint, checkpoint_identity(info, options, method_name));
+  if (!session) return session.status();
   SolveResult result;
+  double seconds_before = 0;  // solve time of earlier jobs when resuming
+  auto resumed = (*session)->resume(*method, op, problem, result.history, seconds_before, options.note);
+  if (!resumed) return resumed.status();
+  if (!*resumed) LODESTONE_TRY(method->setup(op, problem));
+
   ProgressReporter progress(comm, options.progress_seconds, options.pairs);
-  auto elapsed = [&] { return std::chrono::duration<double>(Clock::now() - t0).count(); };
+  auto elapsed = [&] { return seconds_before + std::chrono::duration<double>(Clock::now() - t0).count(); };
   auto record = [&] {
     HistoryRecord h;
     h.iteration = method->iterations();
@@ -126,11 +144,13 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
                          options.tolerance * problem.norm_estimate);
     result.history.push_back(std::move(h));
   };
-  record();
+  if (!*resumed) record();
   while (method->converged() < options.pairs) {
     if (options.max_matvecs > 0 && op.matvecs() >= options.max_matvecs) break;
+    const double step_start = elapsed();
     LODESTONE_TRY(method->step());
     record();
+    LODESTONE_TRY((*session)->boundary(*method, op, result.history, options.pairs, elapsed(), elapsed() - step_start));
   }
 
   auto pairs = method->extract();

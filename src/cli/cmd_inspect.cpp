@@ -2,8 +2,10 @@
 #include <fmt/format.h>
 
 #include "cli/command.hpp"
+#include "cli/inspect_checkpoint.hpp"
 #include "cli/inspect_result.hpp"
 #include "io/result_file.hpp"
+#include "lodestone/checkpoint.hpp"
 #include "io/matrix_summary.hpp"
 #include "support/format.hpp"
 
@@ -17,7 +19,7 @@ Command make_inspect_command(CLI::App& root) {
     double symmetry_tolerance = 1e-12;
   };
   auto args = std::make_shared<Args>();
-  CLI::App* app = root.add_subcommand("inspect", "Summarise a matrix file or a results file");
+  CLI::App* app = root.add_subcommand("inspect", "Summarise a matrix, results or checkpoint file");
   app->add_option("file", args->path, "Lodestone HDF5 file")->required();
   app->add_option("--group", args->group, "HDF5 group of the matrix")->capture_default_str();
   app->add_flag("--check", args->check,
@@ -28,6 +30,7 @@ Command make_inspect_command(CLI::App& root) {
       ->capture_default_str();
   app->footer("Examples:\n  lodestone inspect bridge.h5\n  lodestone inspect bridge-modes.h5\n  mpirun -n 4 lodestone inspect --check bridge.h5");
   return {app, [args](MPI_Comm comm) -> Status {
+            if (is_checkpoint_file(comm, args->path)) return inspect_checkpoint(comm, args->path);
             if (io::is_result_file(comm, args->path)) return inspect_result(comm, args->path);
             // With --check, load (and so validate) first: a bad file gets its
             // one error line and no half-true summary before it.

@@ -6,6 +6,7 @@
 #include "cli/command.hpp"
 #include "lodestone/result.hpp"
 #include "lodestone/solver.hpp"
+#include "state/duration.hpp"
 
 namespace lodestone::cli {
 
@@ -34,6 +35,7 @@ Command make_solve_command(CLI::App& root) {
     SolveOptions solve;
     double shift = 0;
     bool quiet = false;
+    std::string every, budget;  // durations, parsed in run
   };
   auto args = std::make_shared<Args>();
   CLI::App* app = root.add_subcommand("solve", "Find K wanted eigenpairs of a matrix file, with residuals");
@@ -57,15 +59,39 @@ Command make_solve_command(CLI::App& root) {
   CLI::Option* shift = app->add_option("--shift", args->shift, "power and block: iterate with A - shift*I");
   app->add_option("--block-size", args->solve.block_size, "block and chebyshev: vectors per block (default K plus a few)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
+  app->add_option("--checkpoint", args->solve.checkpoint.path,
+                  "checkpoint file: written every --checkpoint-every and when stopped early (keeps FILE.previous)");
+  app->add_option("--checkpoint-every", args->every, "time between checkpoints, e.g. 90s, 10m, 1h30m, HH:MM:SS "
+                                                      "(default 10m, or 5% of --time-budget if shorter)");
+  app->add_flag("--resume", args->solve.checkpoint.resume,
+                "continue from --checkpoint FILE if it exists (start afresh if not)");
+  app->add_option("--time-budget", args->budget,
+                  "stop with a checkpoint (exit 3) before this much time has passed since start, e.g. 11h50m");
   app->add_flag("--quiet,-q", args->quiet, "no progress lines and no closing table");
   app->footer(
       "Exit status: 0 all K pairs converged, 1 input or runtime error, 2 usage error,\n"
+      "3 stopped early by SIGTERM/SIGINT/SIGUSR1/SIGUSR2 or --time-budget (resume with --resume),\n"
       "4 matvec budget exhausted (the results file holds the converged pairs).\n"
       "PETSc options (e.g. -log_view) go after a lone --petsc.\n"
       "Examples:\n"
       "  lodestone solve plate.h5 --pairs 8 --select largest --out modes.h5\n"
       "  mpirun -n 4 lodestone solve chain.h5 --pairs 4 --method block --out chain-modes.h5");
   return {app, [args, shift](MPI_Comm comm) -> Status {
+            const double started = MPI_Wtime();  // --time-budget counts from here
+            CheckpointPlan& plan = args->solve.checkpoint;
+            plan.clock_start = started;
+            if (!args->every.empty()) {
+              auto d = state::parse_duration(args->every, "--checkpoint-every");
+              if (!d) return d.status();
+              plan.every_seconds = *d;
+            }
+            if (!args->budget.empty()) {
+              auto d = state::parse_duration(args->budget, "--time-budget");
+              if (!d) return d.status();
+              plan.time_budget_seconds = *d;
+            }
+            plan.inputs = {args->matrix};
+            if (!args->out.empty()) plan.inputs.push_back(args->out);
             LoadOptions load;
             load.group = args->group;
             auto m = Matrix::load(comm, args->matrix, load);
