@@ -15,7 +15,7 @@ export ASAN_OPTIONS="${ASAN_OPTIONS:-detect_leaks=1:malloc_context_size=40}"
 # still checks every input for leaks.
 export LSAN_OPTIONS="${LSAN_OPTIONS:-suppressions=$here/../tests/sanitizer/lsan.supp:print_suppressions=0:leak_check_at_exit=0}"
 export UBSAN_OPTIONS="${UBSAN_OPTIONS:-print_stacktrace=1:halt_on_error=1}"
-limits=(-timeout=20 -rss_limit_mb=2048 -malloc_limit_mb=1024)
+limits=(-timeout=60 -rss_limit_mb=2048 -malloc_limit_mb=1024)
 
 if [ "${1:-}" = "--replay" ]; then
   shift
