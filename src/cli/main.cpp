@@ -51,6 +51,7 @@ int main(int argc, char** argv) {
   std::vector<cli::Command> commands = {
       cli::make_generate_command(app),
       cli::make_inspect_command(app),
+      cli::make_import_command(app),
   };
   try {
     app.parse(static_cast<int>(ours.size()), ours.data());

@@ -1,0 +1,242 @@
+// Parallel Matrix Market import (io/mm_import.hpp).
+#include "io/mm_import.hpp"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+
+#include "io/atomic_output.hpp"
+#include "io/mm_entries.hpp"
+#include "io/mm_lines.hpp"
+#include "io/partition.hpp"
+#include "support/collective.hpp"
+
+namespace lodestone::io {
+namespace {
+
+using mm::Banner;
+using mm::Entry;
+using mm::LineReader;
+
+// What rank 0 learns from the top of the file.
+struct Header {
+  Banner banner;
+  mm::Size size;
+  std::int64_t size_line = 0;   // line number of the size line
+  std::int64_t data_begin = 0;  // byte offset of the line after it
+  std::int64_t data_line = 0;   // line number of that line
+};
+
+Status at_line(const std::string& path, std::int64_t line, const Status& defect) {
+  return Status::input(fmt::format("{}: line {}: {}", path, line, defect.message()));
+}
+
+Result<Header> read_header(const mm::InputFile& file, const std::string& path, std::size_t chunk) {
+  LineReader r(file.fd(), 0, file.size(), chunk);
+  std::string_view line;
+  Header h;
+  if (!r.next(line)) {
+    if (!r.status()) return Status::input(fmt::format("{}: {}", path, r.status().message()));
+    return Status::input(fmt::format("{}: line 1: the file is empty; expected the banner "
+                                     "'%%MatrixMarket matrix FORMAT FIELD SYMMETRY'", path));
+  }
+  auto banner = mm::parse_banner(line);
+  if (!banner) return at_line(path, 1, banner.status());
+  h.banner = *banner;
+  std::int64_t number = 1;
+  bool found = false;
+  while (r.next(line)) {
+    ++number;
+    if (mm::is_skippable(line)) continue;
+    auto size = mm::parse_size(line, h.banner);
+    if (!size) return at_line(path, number, size.status());
+    h.size = *size;
+    found = true;
+    break;
+  }
+  if (!r.status()) return Status::input(fmt::format("{}: {}", path, r.status().message()));
+  if (!found) return at_line(path, number + 1, Status::input("the file ends before the size line"));
+  h.size_line = number;
+  h.data_begin = r.offset();
+  h.data_line = number + 1;
+  return h;
+}
+
+// Rank 0 reads the header; everyone receives it or the agreed failure.
+Result<Header> share_header(MPI_Comm comm, const mm::InputFile* file, const std::string& path, std::size_t chunk) {
+  Result<Header> h = Status::input("no header");
+  if (comm_rank(comm) == 0) h = read_header(*file, path, chunk);
+  LODESTONE_TRY(agree(comm, comm_rank(comm) == 0 ? h.status() : Status::ok()));
+  std::int64_t packed[9] = {};
+  if (comm_rank(comm) == 0) {
+    const Header& x = *h;
+    std::int64_t v[9] = {static_cast<std::int64_t>(x.banner.format), static_cast<std::int64_t>(x.banner.field),
+                         static_cast<std::int64_t>(x.banner.symmetry), x.size.rows, x.size.cols, x.size.entries,
+                         x.size_line, x.data_begin, x.data_line};
+    std::copy(v, v + 9, packed);
+  }
+  MPI_Bcast(packed, 9, MPI_INT64_T, 0, comm);
+  Header x;
+  x.banner = {static_cast<mm::Format>(packed[0]), static_cast<mm::Field>(packed[1]),
+              static_cast<mm::Symmetry>(packed[2])};
+  x.size = {packed[3], packed[4], packed[5]};
+  x.size_line = packed[6];
+  x.data_begin = packed[7];
+  x.data_line = packed[8];
+  return x;
+}
+
+// Adds an entry and, for the symmetric kinds, its mirror image.
+void route(EntryRouter& router, const Banner& b, const Entry& e) {
+  router.add(e);
+  if (b.symmetry != mm::Symmetry::general && e.row != e.col)
+    router.add({e.col, e.row, b.symmetry == mm::Symmetry::skew_symmetric ? -e.value : e.value});
+}
+
+// Walks this rank's lines in rounds. on_data(line) parses one data line and
+// routes its entries, or returns the defect. Collective: every rank leaves
+// together; a defect on any rank stops all ranks at the end of the round, and
+// ranks before the first failing one then count their remaining lines so the
+// failing line's number can be computed. Returns the agreed status.
+template <class OnData>
+Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, EntryRouter& router,
+                   std::int64_t first_line, std::int64_t round, OnData on_data) {
+  const int rank = comm_rank(comm), size = comm_size(comm);
+  std::int64_t lines = 0;
+  Status defect;
+  std::int64_t defect_line = 0;  // 1-based within this rank's share
+  bool done = false;
+  int failed_first = size;
+  for (;;) {
+    std::string_view line;
+    while (!done && defect && router.pending() < round) {
+      if (!reader.next(line)) {
+        done = true;
+        if (!reader.status()) defect = reader.status(), defect_line = lines + 1;
+        break;
+      }
+      ++lines;
+      if (mm::is_skippable(line)) continue;
+      Status s = on_data(line);
+      if (!s) defect = s, defect_line = lines;
+    }
+    router.exchange();
+    int local[2] = {done || !defect ? 1 : 0, defect ? size : rank};
+    int global[2] = {0, 0};
+    MPI_Allreduce(local, global, 2, MPI_INT, MPI_MIN, comm);
+    failed_first = global[1];
+    if (failed_first < size || global[0] == 1) break;
+  }
+  if (failed_first < size) {
+    if (rank < failed_first) {
+      std::string_view line;
+      while (reader.next(line)) ++lines;
+    }
+    const std::int64_t before = exclusive_prefix_sum(comm, lines);
+    if (!defect) defect = at_line(path, first_line + before + defect_line - 1, defect);
+  }
+  return agree(comm, defect);
+}
+
+// Pass one of the array format: data lines in this rank's share.
+Result<std::int64_t> count_data_lines(const mm::InputFile& file, mm::ByteRange range, std::size_t chunk) {
+  LineReader r(file.fd(), range.begin, range.end, chunk);
+  std::string_view line;
+  std::int64_t data = 0;
+  while (r.next(line)) {
+    if (!mm::is_skippable(line)) ++data;
+  }
+  if (!r.status()) return r.status();
+  return data;
+}
+
+std::string count_message(const std::string& path, const Header& h, std::int64_t found) {
+  const bool more = found > h.size.entries;
+  if (h.banner.format == mm::Format::coordinate)
+    return fmt::format("{}: line {}: the size line declares {} entries, but the file holds {} ({})", path,
+                       h.size_line, h.size.entries, found, more ? "too many entries" : "too few entries");
+  const char* stored = h.banner.symmetry == mm::Symmetry::general     ? ""
+                       : h.banner.symmetry == mm::Symmetry::symmetric ? " (only its lower triangle)"
+                                                                      : " (only its strict lower triangle)";
+  return fmt::format("{}: line {}: a {} {} x {} array stores {} values{}, but the file holds {} ({})", path,
+                     h.size_line, mm::symmetry_name(h.banner.symmetry), h.size.rows, h.size.cols, h.size.entries,
+                     stored, found, more ? "too many entries" : "too few entries");
+}
+
+}  // namespace
+
+Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& path, const ImportOptions& options) {
+  const int rank = comm_rank(comm), size = comm_size(comm);
+  auto file = mm::InputFile::open(path);
+  LODESTONE_TRY(agree(comm, file.status()));
+  auto header = share_header(comm, &*file, path, options.chunk_bytes);
+  if (!header) return header.status();
+  const Header h = *header;
+  const std::int64_t n = h.size.rows;
+
+  auto share = mm::line_aligned_share(file->fd(), h.data_begin, file->size(), rank, size);
+  Status s = share ? Status::ok() : Status::input(fmt::format("{}: {}", path, share.status().message()));
+  LODESTONE_TRY(agree(comm, s));
+
+  EntryRouter router(comm, n);
+  LineReader reader(file->fd(), share->begin, share->end, options.chunk_bytes);
+  const std::int64_t round = bounded_round(comm, options.round_entries);
+  std::int64_t data_lines = 0;
+
+  if (h.banner.format == mm::Format::coordinate) {
+    s = route_lines(comm, path, reader, router, h.data_line, round, [&](std::string_view line) {
+      auto e = mm::parse_coordinate_line(line, h.banner, h.size);
+      if (!e) return e.status();
+      ++data_lines;
+      route(router, h.banner, *e);
+      return Status::ok();
+    });
+    LODESTONE_TRY(s);
+    const std::int64_t found = sum_all(comm, data_lines);
+    if (found != h.size.entries) return Status::input(count_message(path, h, found));
+  } else {
+    auto mine = count_data_lines(*file, *share, options.chunk_bytes);
+    s = mine ? Status::ok() : Status::input(fmt::format("{}: {}", path, mine.status().message()));
+    LODESTONE_TRY(agree(comm, s));
+    const std::int64_t found = sum_all(comm, *mine);
+    if (found != h.size.entries) return Status::input(count_message(path, h, found));
+    const std::int64_t first = exclusive_prefix_sum(comm, *mine);
+    mm::ArrayCursor at(n, h.banner.symmetry, first);
+    s = route_lines(comm, path, reader, router, h.data_line, round, [&](std::string_view line) {
+      auto v = mm::parse_array_line(line, h.banner);
+      if (!v) return v.status();
+      ++data_lines;
+      if (*v != 0.0) route(router, h.banner, {at.row(), at.col(), *v});
+      at.next();
+      return Status::ok();
+    });
+    LODESTONE_TRY(s);
+  }
+
+  MatrixMarketRows out;
+  out.banner = h.banner;
+  out.n = n;
+  out.file_entries = sum_all(comm, data_lines);
+  out.symmetric = h.banner.symmetry == mm::Symmetry::symmetric;
+  out.rows = assemble_rows(even_split(n, rank, size), router.received());
+  if (sum_all(comm, out.rows.offsets.back()) == 0)
+    return Status::input(fmt::format("{}: line {}: the matrix has no stored entries (an all-zero matrix has no "
+                                     "dominant eigenpairs to find)", path, h.size_line));
+  return out;
+}
+
+Result<MatrixMarketRows> import_matrix_market(MPI_Comm comm, const std::string& input, const std::string& output,
+                                              const ImportOptions& options) {
+  // Check the output path (not the input, directory writable) before spending
+  // time on reading; the write itself makes its own temporary name later.
+  {
+    auto early = AtomicOutput::begin(comm, output, {input});
+    if (!early) return early.status();
+  }
+  auto m = read_matrix_market(comm, input, options);
+  if (!m) return m.status();
+  LODESTONE_TRY(write_csr_file(comm, output, options.group, m->n, m->symmetric, m->rows, {input}));
+  return m;
+}
+
+}  // namespace lodestone::io
