@@ -52,6 +52,7 @@ int main(int argc, char** argv) {
       cli::make_generate_command(app),
       cli::make_inspect_command(app),
       cli::make_import_command(app),
+      cli::make_plan_command(app),
   };
   try {
     app.parse(static_cast<int>(ours.size()), ours.data());

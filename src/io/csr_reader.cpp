@@ -64,6 +64,12 @@ Result<CsrDatasets> open_csr(hid_t group, const MatrixHeader& h) {
   if (sv->dims.size() != 1) return where(layout::kValues, "must be one-dimensional for layout 'csr'");
   if (sv->dims[0] != sc->dims[0])
     return where(layout::kValues, fmt::format("has length {}, but column_indices has length {}", sv->dims[0], sc->dims[0]));
+  // Sorted, unique columns allow at most cols entries per row. Checked before
+  // anything is allocated or read, so an absurd length in a damaged or hostile
+  // header costs nothing.
+  if (sc->dims[0] / h.rows > h.cols || (sc->dims[0] / h.rows == h.cols && sc->dims[0] % h.rows != 0))
+    return where(layout::kColumnIndices, fmt::format("has {} entries, more than a {} x {} matrix can hold", sc->dims[0],
+                                                     h.rows, h.cols));
   d.nnz = sc->dims[0];
   d.offsets = std::move(*off);
   d.columns = std::move(*col);
@@ -106,42 +112,71 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
   LODESTONE_TRY(agree(comm, opened.status()));
   CsrDatasets& ds = *opened;
   const std::int64_t n = h.rows;
+  const std::int64_t chunk = std::max<std::int64_t>(1, options.chunk_entries);
+  const int node_ranks = ranks_on_node(comm);
+  auto named = [&](const Status& st) { return st ? st : Status::input(fmt::format("{}: {}", h.file, st.message())); };
+  // Memory this rank needs for `rows` rows holding `entries` entries: offsets and
+  // preallocation counts, the chunk buffers, and PETSc's own copy (values,
+  // column indices, row pointers).
+  const double idx = sizeof(PetscInt);
+  auto share = [&](double rows, double entries) {
+    return rows * (8.0 + 4.0 * idx) + std::min(static_cast<double>(chunk), entries) * (16.0 + idx) + entries * (8.0 + idx);
+  };
+
+  // Step 0: the average share, from the dataset lengths alone, before anything
+  // is allocated or read.
+  LODESTONE_TRY(agree(comm, fits_in_memory(h, share(static_cast<double>(n) / size, static_cast<double>(ds.nnz) / size),
+                                           node_ranks)));
 
   // Step 1: even slice of offsets, validation and balanced boundaries.
   RowRange even = even_split(n, rank, size);
-  std::vector<std::int64_t> slice(static_cast<std::size_t>(even.size() + 1));
-  Status s = h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, even.begin, even.size() + 1, slice.data());
+  std::vector<std::int64_t> slice;
+  Status s = allocate(h, [&] { slice.resize(static_cast<std::size_t>(even.size() + 1)); });
+  LODESTONE_TRY(agree(comm, s));
+  s = named(h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, even.begin, even.size() + 1, slice.data()));
   if (s) s = check_offsets_slice(h, even, slice, ds.nnz);
   LODESTONE_TRY(agree(comm, s));
   std::vector<std::int64_t> bounds = balanced_split(comm, even, slice, n, ds.nnz);
-  slice.clear();
-  slice.shrink_to_fit();
+  slice = {};
   const RowRange mine{bounds[static_cast<std::size_t>(rank)], bounds[static_cast<std::size_t>(rank) + 1]};
   const std::int64_t m = mine.size();
 
-  std::vector<std::int64_t> off(static_cast<std::size_t>(m + 1));
-  LODESTONE_TRY(agree(comm, h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, mine.begin, m + 1, off.data())));
+  std::vector<std::int64_t> off;
+  LODESTONE_TRY(agree(comm, allocate(h, [&] { off.resize(static_cast<std::size_t>(m + 1)); })));
+  LODESTONE_TRY(agree(comm, named(h5::read_range(ds.offsets.get(), H5T_NATIVE_INT64, mine.begin, m + 1, off.data()))));
   const std::int64_t k_begin = off.front(), k_end = off.back();
   const std::int64_t local_nnz = k_end - k_begin;
+  const std::int64_t buffered = std::min(chunk, std::max<std::int64_t>(local_nnz, 1));
   Status width;
   if (local_nnz > max_index())
     width = Status::input(fmt::format("{}: {} nonzeros on one rank exceed this build's index range; use more ranks or "
                                       "rebuild against petsc64", h.file, local_nnz));
+  // This rank's own share, now that the balanced boundaries are known.
+  if (width) width = fits_in_memory(h, share(static_cast<double>(m), static_cast<double>(local_nnz)), node_ranks);
   LODESTONE_TRY(agree(comm, width));
 
-  const std::int64_t chunk = std::max<std::int64_t>(1, options.chunk_entries);
   const std::int64_t rounds = max_all(comm, (local_nnz + chunk - 1) / chunk);
-  std::vector<std::int64_t> cols(static_cast<std::size_t>(std::min(chunk, std::max<std::int64_t>(local_nnz, 1))));
+  std::vector<std::int64_t> cols;
+  std::vector<PetscInt> d_nnz, o_nnz;
+  LODESTONE_TRY(agree(comm, allocate(h, [&] {
+    cols.resize(static_cast<std::size_t>(buffered));
+    d_nnz.assign(static_cast<std::size_t>(m), 0);
+    o_nnz.assign(static_cast<std::size_t>(m), 0);
+  })));
 
-  // Step 2: validate columns and count the preallocation.
-  std::vector<PetscInt> d_nnz(static_cast<std::size_t>(m), 0), o_nnz(static_cast<std::size_t>(m), 0);
+  // Step 2: validate columns and count the preallocation. A rank that finds a
+  // defect stops looking but keeps taking part in the collective reads; the
+  // ranks agree once at the end, so the defect reported is the first in the
+  // file (ranks hold rows in order), whichever chunk it was found in.
+  Status rs;
   {
     RowCursor cur{&off};
     std::int64_t last = -1;  // column of the previous entry, carried across chunks
     for (std::int64_t round = 0; round < rounds; ++round) {
       const std::int64_t k0 = k_begin + round * chunk;
-      const std::int64_t count = std::clamp<std::int64_t>(k_end - k0, 0, chunk);
-      Status rs = h5::read_range(ds.columns.get(), H5T_NATIVE_INT64, k0, count, cols.data());
+      const std::int64_t count = rs ? std::clamp<std::int64_t>(k_end - k0, 0, chunk) : 0;
+      Status read = h5::read_range(ds.columns.get(), H5T_NATIVE_INT64, count ? k0 : 0, count, cols.data());
+      if (rs && !read) rs = named(read);
       for (std::int64_t i = 0; rs && i < count; ++i) {
         const std::int64_t k = k0 + i;
         cur.seek(k);
@@ -161,9 +196,9 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
         else ++o_nnz[static_cast<std::size_t>(cur.row)];
         last = c;
       }
-      LODESTONE_TRY(agree(comm, rs));
     }
   }
+  LODESTONE_TRY(agree(comm, rs));
 
   // Step 3: build the matrix and fill it chunk by chunk.
   Mat a = nullptr;
@@ -188,15 +223,21 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
   o_nnz = {};
 
   FingerprintAccumulator fp;
-  std::vector<double> vals(cols.size());
-  std::vector<PetscInt> pcols(cols.size());
+  std::vector<double> vals;
+  std::vector<PetscInt> pcols;
+  ms = agree(comm, allocate(h, [&] {
+    vals.resize(cols.size());
+    pcols.resize(cols.size());
+  }));
+  if (!ms) return fail(ms);
   RowCursor cur{&off};
   for (std::int64_t round = 0; round < rounds; ++round) {
     const std::int64_t k0 = k_begin + round * chunk;
-    const std::int64_t count = std::clamp<std::int64_t>(k_end - k0, 0, chunk);
-    Status rs = h5::read_range(ds.columns.get(), H5T_NATIVE_INT64, k0, count, cols.data());
-    Status vs = h5::read_range(ds.values.get(), H5T_NATIVE_DOUBLE, k0, count, vals.data());
-    if (!vs) rs = vs;
+    const std::int64_t count = rs ? std::clamp<std::int64_t>(k_end - k0, 0, chunk) : 0;
+    Status read = h5::read_range(ds.columns.get(), H5T_NATIVE_INT64, count ? k0 : 0, count, cols.data());
+    Status vs = h5::read_range(ds.values.get(), H5T_NATIVE_DOUBLE, count ? k0 : 0, count, vals.data());
+    if (rs && !read) rs = named(read);
+    if (rs && !vs) rs = named(vs);
     for (std::int64_t i = 0; rs && i < count; ++i) {
       const double v = vals[static_cast<std::size_t>(i)];
       if (!std::isfinite(v)) {
@@ -219,9 +260,9 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& h, const
       if (e) rs = petsc_status(e, "MatSetValues");
       i = row_end;
     }
-    Status agreed = agree(comm, rs);
-    if (!agreed) return fail(agreed);
   }
+  rs = agree(comm, rs);
+  if (!rs) return fail(rs);
   cols = {};
   vals = {};
   pcols = {};

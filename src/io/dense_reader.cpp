@@ -45,6 +45,13 @@ Result<Matrix> read_dense(MPI_Comm comm, hid_t group, const MatrixHeader& h, con
 
   const RowRange mine = even_split(n, rank, size);
   const std::int64_t m = mine.size();
+  const std::int64_t rows_per_chunk = std::max<std::int64_t>(1, options.chunk_entries / std::max<std::int64_t>(1, n));
+  const std::int64_t buffered_rows = std::min(rows_per_chunk, std::max<std::int64_t>(m, 1));
+  // This rank's rows in PETSc plus one chunk of rows read from the file.
+  s = fits_in_memory(h, 8.0 * static_cast<double>(m + buffered_rows) * static_cast<double>(n), ranks_on_node(comm));
+  std::vector<double> buf;
+  if (s) s = allocate(h, [&] { buf.resize(static_cast<std::size_t>(buffered_rows * n)); });
+  LODESTONE_TRY(agree(comm, s));
   Mat a = nullptr;
   s = [&]() -> Status {
     LODESTONE_PETSC(MatCreateDense(comm, static_cast<PetscInt>(m), static_cast<PetscInt>(m), static_cast<PetscInt>(n),
@@ -61,9 +68,7 @@ Result<Matrix> read_dense(MPI_Comm comm, hid_t group, const MatrixHeader& h, con
   PetscInt lda = 0;
   MatDenseGetArray(a, &local);
   MatDenseGetLDA(a, &lda);
-  const std::int64_t rows_per_chunk = std::max<std::int64_t>(1, options.chunk_entries / std::max<std::int64_t>(1, n));
   const std::int64_t rounds = max_all(comm, (m + rows_per_chunk - 1) / rows_per_chunk);
-  std::vector<double> buf(static_cast<std::size_t>(std::min(rows_per_chunk, std::max<std::int64_t>(m, 1)) * n));
   FingerprintAccumulator fp;
   Status rs;
   for (std::int64_t round = 0; round < rounds; ++round) {
@@ -71,7 +76,7 @@ Result<Matrix> read_dense(MPI_Comm comm, hid_t group, const MatrixHeader& h, con
     const std::int64_t count = std::clamp<std::int64_t>(m - r0, 0, rows_per_chunk);
     Status cs = rs ? h5::read_rows(values.get(), H5T_NATIVE_DOUBLE, mine.begin + r0, count, n, buf.data())
                    : h5::read_rows(values.get(), H5T_NATIVE_DOUBLE, 0, 0, n, buf.data());
-    if (rs && !cs) rs = cs;
+    if (rs && !cs) rs = Status::input(fmt::format("{}: {}", h.file, cs.message()));
     for (std::int64_t i = 0; rs && i < count; ++i) {
       for (std::int64_t j = 0; j < n; ++j) {
         const double v = buf[static_cast<std::size_t>(i * n + j)];

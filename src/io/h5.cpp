@@ -241,7 +241,12 @@ static Status transfer_block(hid_t dataset, hid_t mem_type, const std::vector<hs
   Handle xfer = collective_transfer();
   herr_t e = write ? H5Dwrite(dataset, mem_type, mem_space.get(), file_space.get(), xfer.get(), buf)
                    : H5Dread(dataset, mem_type, mem_space.get(), file_space.get(), xfer.get(), buf);
-  if (e < 0) return Status::input(write ? "HDF5 write failed (disk full or file-size limit?)" : "HDF5 read failed");
+  if (e < 0) {
+    char name[256] = "?";
+    H5Iget_name(dataset, name, sizeof name);
+    return Status::input(write ? fmt::format("dataset '{}': HDF5 write failed (disk full or file-size limit?)", name)
+                               : fmt::format("dataset '{}': HDF5 could not read it (damaged file?)", name));
+  }
   return Status::ok();
 }
 

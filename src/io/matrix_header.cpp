@@ -1,14 +1,40 @@
 // Reading and checking the group attributes of a matrix file.
 #include <fmt/format.h>
 #include <petscsys.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <limits>
 
 #include "io/h5.hpp"
 #include "io/layout.hpp"
 #include "io/matrix_reader.hpp"
+#include "support/format.hpp"
 
 namespace lodestone::io {
 
 std::int64_t max_index() { return static_cast<std::int64_t>(PETSC_MAX_INT); }
+
+int ranks_on_node(MPI_Comm comm) {
+  MPI_Comm node = MPI_COMM_NULL;
+  int n = 1;
+  if (MPI_Comm_split_type(comm, MPI_COMM_TYPE_SHARED, 0, MPI_INFO_NULL, &node) == MPI_SUCCESS) {
+    MPI_Comm_size(node, &n);
+    MPI_Comm_free(&node);
+  }
+  return n;
+}
+
+Status fits_in_memory(const MatrixHeader& h, double bytes, int node_ranks) {
+  const long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGESIZE);
+  const double node = pages > 0 && page > 0 ? static_cast<double>(pages) * static_cast<double>(page)
+                                            : std::numeric_limits<double>::infinity();
+  const double limit = node / std::max(1, node_ranks);
+  if (bytes <= limit) return Status::ok();
+  return Status::input(fmt::format("{}: group '{}': loading needs about {} per rank, more than this node's {} of memory "
+                                   "shared by {} rank(s) allows; use more nodes",
+                                   h.file, h.group, human_bytes(bytes), human_bytes(node), node_ranks));
+}
 
 Result<MatrixHeader> read_header(hid_t group, const std::string& file, const std::string& group_path) {
   MatrixHeader h;

@@ -5,6 +5,7 @@
 #include <hdf5.h>
 #include <mpi.h>
 
+#include <new>
 #include <string>
 
 #include "lodestone/matrix.hpp"
@@ -33,5 +34,24 @@ Status check_symmetric(Mat a, double tolerance, const std::string& where);
 
 // The largest row or column count this build's PETSc index type can hold.
 std::int64_t max_index();
+
+// Collective: how many ranks of comm share this rank's node (and its memory).
+int ranks_on_node(MPI_Comm comm);
+// Refuses, before anything is allocated, a rank share of `bytes` larger than this
+// node's physical memory divided by the ranks on it (a damaged or hostile
+// header, or far too few ranks). Local; the caller agrees on the result.
+Status fits_in_memory(const MatrixHeader& h, double bytes, int node_ranks);
+
+// Runs an allocation, turning std::bad_alloc into a Status the ranks can agree
+// on (a lone rank throwing would leave the others waiting in a collective call).
+template <class F>
+Status allocate(const MatrixHeader& h, F&& f) {
+  try {
+    f();
+    return Status::ok();
+  } catch (const std::bad_alloc&) {
+    return Status::input(h.file + ": group '" + h.group + "': out of memory while loading; use more ranks");
+  }
+}
 
 }  // namespace lodestone::io

@@ -60,8 +60,15 @@ Result<MatrixSummary> summarize_matrix(MPI_Comm comm, const std::string& path, c
     col = h5::Handle(H5Dopen2(group->get(), layout::kColumnIndices, H5P_DEFAULT));
     val = h5::Handle(H5Dopen2(group->get(), layout::kValues, H5P_DEFAULT));
     auto shape = h5::dataset_shape(off.get());
-    if (!shape || shape->dims.size() != 1 || shape->dims[0] != n + 1)
-      s = Status::input(fmt::format("{}: dataset '{}/row_offsets' must have length rows+1", path, group_path));
+    auto bad = [&](const std::string& what) {
+      return Status::input(fmt::format("{}: dataset '{}/row_offsets': {}", path, group_path, what));
+    };
+    if (!off.valid() || !col.valid() || !val.valid() || !shape)
+      s = Status::input(fmt::format("{}: group '{}': cannot open the CSR datasets", path, group_path));
+    else if (shape->type_class != H5T_INTEGER) s = bad("must hold integers");
+    else if (shape->dims.size() != 1) s = bad("must be one-dimensional");
+    else if (shape->dims[0] != n + 1)
+      s = bad(fmt::format("has length {}, expected rows+1 = {}", shape->dims[0], n + 1));
   }
   LODESTONE_TRY(agree(comm, s));
   out.value_type = type_name(val.get());
@@ -77,6 +84,7 @@ Result<MatrixSummary> summarize_matrix(MPI_Comm comm, const std::string& path, c
     const std::int64_t count = std::clamp<std::int64_t>(even.end - b, 0, piece);
     buf.resize(static_cast<std::size_t>(count + 1));
     Status rs = h5::read_range(off.get(), H5T_NATIVE_INT64, count ? b : 0, count ? count + 1 : 0, buf.data());
+    if (!rs) rs = Status::input(fmt::format("{}: {}", path, rs.message()));
     LODESTONE_TRY(agree(comm, rs));
     for (std::int64_t i = 0; i < count; ++i) {
       const std::int64_t len = buf[static_cast<std::size_t>(i) + 1] - buf[static_cast<std::size_t>(i)];

@@ -1,0 +1,98 @@
+#!/bin/bash
+# Workstation script written by `lodestone plan`; regenerate it rather than edit it.
+# Ctrl-C stops the solver at its next iteration with a checkpoint; run the script
+# again to resume.
+# Plan for larkspur-deck.h5 (group /matrix)
+#   matrix                360000 x 360000, 1797000 nonzeros (CSR), symmetric
+#   method                chebyshev (auto: the matrix is symmetric), 8 pairs, block of 12 vectors, filter degree 10
+#   scheduler             local
+#   allocation            1 node x 8 ranks = 8 ranks (8 cores, 32.0 GiB per node)
+#   sized by              memory: one node holds the matrix with 8 ranks, one per core
+#   heaviest rank         44951 rows, 224679 nonzeros (most rows on any rank: 45150)
+# Memory per rank (the heaviest rank)
+#   matrix rows           3.1 MiB
+#   block vectors         16.5 MiB
+#   locked vectors        2.8 MiB (8 vectors)
+#   halo (ghost values)   21.4 MiB (at most 224679 ghost rows; an upper bound, column indices are not read)
+#   read buffers          5.0 MiB (while loading)
+#   symmetry check        6.2 MiB (while loading: transpose and difference)
+#   library overhead      64.0 MiB (MPI, PETSc, HDF5)
+#   peak                  107.8 MiB (matrix + library + the larger of solving 40.7 MiB and loading 6.2 MiB)
+#   safety margin         21.6 MiB
+#   total                 129.4 MiB
+#   per node              1.0 GiB for 8 ranks, of 30.4 GiB usable
+# Time
+#   speeds from           defaults (common practice, not measured here)
+#   convergence from      defaults (common practice, not measured here)
+#   matvecs               504 to 4824 (120 per iteration)
+#   iterations            4 to 40
+#   per iteration         145.7 ms (matrix passes 82.7 ms, halo 43.4 ms, reductions 0.1 ms, dense work 19.5 ms)
+#   loading the matrix    34.5 ms per job
+#   solve                 608.0 ms to 5.9 s
+#   walltime, all jobs    642.5 ms to 5.9 s
+# Jobs
+#   walltime per job      none (runs to the end)
+#   chained jobs          1
+#   stop margin           60 s before the limit
+#   checkpoint            every 1800 s, 55.9 MiB each, ~58.6 ms to write
+
+set -u
+
+# What to run. Every value is single-quoted: nothing in it reaches the shell as code.
+lodestone='lodestone'
+matrix='larkspur-deck.h5'
+group='/matrix'
+result='larkspur-deck.result.h5'
+checkpoint='larkspur-deck.checkpoint.h5'
+pairs=8
+method='chebyshev'
+ranks=8
+checkpoint_every=1800s
+
+launcher=(mpirun -n "$ranks")
+if [ "$(id -u)" -eq 0 ]; then launcher+=(--allow-run-as-root); fi
+solve_args=(solve "$matrix" --group "$group" --pairs "$pairs" --method "$method"
+  --out "$result" --checkpoint "$checkpoint" --resume --checkpoint-every "$checkpoint_every")
+
+# A warning signal from the scheduler (or Ctrl-C) reaches this shell; it is passed to
+# the solver as USR1 (mpirun forwards USR1 to every rank; TERM would make it kill them),
+# and the solver checkpoints at its next iteration boundary and exits with status 3.
+solver_pid=''
+trap 'echo "lodestone job: USR1 received; asking the solver to checkpoint and stop" >&2
+  if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' USR1
+trap 'echo "lodestone job: TERM received; asking the solver to checkpoint and stop" >&2
+  if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' TERM
+trap 'echo "lodestone job: INT received; asking the solver to checkpoint and stop" >&2
+  if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' INT
+
+# Run in the background and wait, so a trap runs as soon as a signal arrives.
+"${launcher[@]}" "$lodestone" "${solve_args[@]}" &
+solver_pid=$!
+while :; do
+  wait "$solver_pid"
+  status=$?
+  # Above 128 while the solver still runs: a trap interrupted the wait; wait again.
+  if [ "$status" -gt 128 ] && kill -0 "$solver_pid" 2>/dev/null; then continue; fi
+  break
+done
+
+case "$status" in
+  3)
+    echo "lodestone job: stopped early with a checkpoint in $checkpoint; run this script again to resume" >&2
+    exit 3 ;;
+  0)
+    echo "lodestone job: finished; all $pairs pairs converged; results in $result" >&2
+    exit 0 ;;
+  4)
+    echo "lodestone job: the matvec budget ran out before every pair converged; $result holds the converged pairs. Not resubmitting." >&2
+    exit 4 ;;
+  1)
+    echo "lodestone job: the solver failed (status 1: bad input or a runtime error; see the messages above). Not resubmitting." >&2
+    exit 1 ;;
+  2)
+    echo "lodestone job: the solver refused its options (status 2); regenerate this script with 'lodestone plan'. Not resubmitting." >&2
+    exit 2 ;;
+  *)
+    echo "lodestone job: the solver ended with status $status (killed by a signal, or mpirun failed). Not resubmitting." >&2
+    exit "$status" ;;
+esac

@@ -1,0 +1,280 @@
+// job_script: Slurm, PBS and plain mpirun scripts that run, stop, checkpoint and
+// resume `lodestone solve` until it finishes. Every value from the user is
+// validated here and reaches the shell only inside single quotes.
+#include <fmt/format.h>
+
+#include <cmath>
+#include <sstream>
+
+#include "lodestone/plan.hpp"
+#include "plan/units.hpp"
+
+namespace lodestone {
+namespace {
+
+bool has_control(const std::string& v) {
+  for (unsigned char c : v)
+    if (c < 0x20 || c == 0x7f) return true;
+  return false;
+}
+
+// A value as it can be shown in a message: control characters made visible.
+std::string visible(const std::string& v) {
+  std::string out;
+  for (unsigned char c : v) {
+    if (c == '\n') out += "\\n";
+    else if (c == '\t') out += "\\t";
+    else if (c < 0x20 || c == 0x7f) out += fmt::format("\\x{:02x}", c);
+    else out += static_cast<char>(c);
+  }
+  return out;
+}
+
+bool name_char(char c) {
+  return (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') || c == '.' || c == '_' ||
+         c == '-';
+}
+
+Status check_plain_name(const std::string& what, const std::string& value, bool allow_at) {
+  if (value.empty()) return Status::usage(fmt::format("{} must not be empty", what));
+  if (value.size() > 128) return Status::usage(fmt::format("{} '{}' is too long (at most 128 characters)", what, visible(value)));
+  for (char c : value)
+    if (!name_char(c) && !(allow_at && c == '@'))
+      return Status::usage(fmt::format("{} '{}': use only letters, digits, '.', '_' and '-'{}", what, visible(value),
+                                       allow_at ? " (and '@' for queue@server)" : ""));
+  return Status::ok();
+}
+
+std::string comment_block(const Plan& p) {
+  std::string out;
+  std::istringstream in(describe_plan(p));
+  for (std::string l; std::getline(in, l);) out += l.empty() ? "#\n" : "# " + l + "\n";
+  return out;
+}
+
+std::int64_t mebibytes(double bytes) { return static_cast<std::int64_t>(std::ceil(bytes / (1024.0 * 1024.0))); }
+
+// name='value'. A value holding $ or ` is meant literally; shellcheck is told so.
+std::string assign(const std::string& name, const std::string& value) {
+  std::string s;
+  if (value.find_first_of("$`") != std::string::npos)
+    s += "# The value below holds a literal $ or `, kept literal by the single quotes.\n"
+         "# shellcheck disable=SC2016\n";
+  return s + name + "=" + shell_quote(value) + "\n";
+}
+
+// Variables and the solver launch, shared by every scheduler.
+std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_budget, bool local) {
+  std::string s;
+  s += "set -u\n\n";
+  s += "# What to run. Every value is single-quoted: nothing in it reaches the shell as code.\n";
+  s += assign("lodestone", o.lodestone);
+  s += assign("matrix", p.matrix_path);
+  s += assign("group", p.group);
+  s += assign("result", o.result_path);
+  s += assign("checkpoint", o.checkpoint_path);
+  s += fmt::format("pairs={}\n", p.pairs);
+  s += fmt::format("method={}\n", shell_quote(p.method));
+  s += fmt::format("ranks={}\n", p.ranks);
+  s += fmt::format("checkpoint_every={}s\n", p.checkpoint_interval);
+  s += "\n";
+  s += "launcher=(mpirun -n \"$ranks\")\n";
+  s += "if [ \"$(id -u)\" -eq 0 ]; then launcher+=(--allow-run-as-root); fi\n";
+  s += "solve_args=(solve \"$matrix\" --group \"$group\" --pairs \"$pairs\" --method \"$method\"\n";
+  s += "  --out \"$result\" --checkpoint \"$checkpoint\" --resume --checkpoint-every \"$checkpoint_every\")\n";
+  if (time_budget > 0) s += fmt::format("solve_args+=(--time-budget {}s)\n", time_budget);
+  s += "\n";
+  s += "# A warning signal from the scheduler (or Ctrl-C) reaches this shell; it is passed to\n";
+  s += "# the solver as USR1 (mpirun forwards USR1 to every rank; TERM would make it kill them),\n";
+  s += "# and the solver checkpoints at its next iteration boundary and exits with status 3.\n";
+  s += "solver_pid=''\n";
+  for (const char* sig : {"USR1", "TERM", "INT"}) {
+    if (!local && std::string(sig) == "INT") continue;
+    s += fmt::format("trap 'echo \"lodestone job: {0} received; asking the solver to checkpoint and stop\" >&2\n"
+                     "  if [ -n \"$solver_pid\" ]; then kill -USR1 \"$solver_pid\" 2>/dev/null || true; fi' {0}\n",
+                     sig);
+  }
+  s += "\n";
+  s += "# Run in the background and wait, so a trap runs as soon as a signal arrives.\n";
+  s += "\"${launcher[@]}\" \"$lodestone\" \"${solve_args[@]}\" &\n";
+  s += "solver_pid=$!\n";
+  s += "while :; do\n";
+  s += "  wait \"$solver_pid\"\n";
+  s += "  status=$?\n";
+  s += "  # Above 128 while the solver still runs: a trap interrupted the wait; wait again.\n";
+  s += "  if [ \"$status\" -gt 128 ] && kill -0 \"$solver_pid\" 2>/dev/null; then continue; fi\n";
+  s += "  break\n";
+  s += "done\n\n";
+  return s;
+}
+
+// What every scheduler does with a status other than 3.
+std::string other_statuses() {
+  return "  0)\n"
+         "    echo \"lodestone job: finished; all $pairs pairs converged; results in $result\" >&2\n"
+         "    exit 0 ;;\n"
+         "  4)\n"
+         "    echo \"lodestone job: the matvec budget ran out before every pair converged; $result holds the converged pairs. Not resubmitting.\" >&2\n"
+         "    exit 4 ;;\n"
+         "  1)\n"
+         "    echo \"lodestone job: the solver failed (status 1: bad input or a runtime error; see the messages above). Not resubmitting.\" >&2\n"
+         "    exit 1 ;;\n"
+         "  2)\n"
+         "    echo \"lodestone job: the solver refused its options (status 2); regenerate this script with 'lodestone plan'. Not resubmitting.\" >&2\n"
+         "    exit 2 ;;\n"
+         "  *)\n"
+         "    echo \"lodestone job: the solver ended with status $status (killed by a signal, or mpirun failed). Not resubmitting.\" >&2\n"
+         "    exit \"$status\" ;;\n";
+}
+
+std::string slurm_script(const Plan& p, const JobOptions& o) {
+  std::string s = "#!/bin/bash\n";
+  s += "# Slurm batch script written by `lodestone plan`; regenerate it rather than edit it.\n";
+  s += comment_block(p);
+  s += fmt::format("#SBATCH --job-name={}\n", o.job_name);
+  s += fmt::format("#SBATCH --nodes={}\n", p.nodes);
+  s += fmt::format("#SBATCH --ntasks-per-node={}\n", p.ranks_per_node);
+  s += fmt::format("#SBATCH --time={}\n", plan::format_slurm_time(p.job_walltime));
+  s += fmt::format("#SBATCH --mem={}M\n", mebibytes(p.node_memory_used));
+  s += fmt::format("#SBATCH --output={}-%j.out\n", o.job_name);
+  s += "#SBATCH --open-mode=append\n";
+  s += fmt::format("#SBATCH --signal=B:USR1@{}\n", p.signal_margin);
+  s += "#SBATCH --requeue\n";
+  if (!o.account.empty()) s += fmt::format("#SBATCH --account={}\n", o.account);
+  if (!o.partition.empty()) s += fmt::format("#SBATCH --partition={}\n", o.partition);
+  s += "\n";
+  s += launch_block(p, o, 0, false);
+  s += fmt::format("max_requeues={}\n", 2 * p.jobs_high + 2);
+  s += "case \"$status\" in\n";
+  s += "  3)\n";
+  s += "    requeues=\"${SLURM_RESTART_COUNT:-0}\"\n";
+  s += "    if [ \"$requeues\" -ge \"$max_requeues\" ]; then\n";
+  s += "      echo \"lodestone job: stopped early again after $requeues requeues (limit $max_requeues); not requeueing. Submit this script again to resume from $checkpoint.\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
+  s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; requeueing (requeue $((requeues + 1)) of at most $max_requeues)\" >&2\n";
+  s += "    if [ -z \"${SLURM_JOB_ID:-}\" ] || ! scontrol requeue \"$SLURM_JOB_ID\"; then\n";
+  s += "      echo \"lodestone job: could not requeue; submit this script again to resume from $checkpoint\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
+  s += "    exit 0 ;;\n";
+  s += other_statuses();
+  s += "esac\n";
+  return s;
+}
+
+std::string pbs_script(const Plan& p, const JobOptions& o) {
+  std::string s = "#!/bin/bash\n";
+  s += "# PBS batch script written by `lodestone plan`; regenerate it rather than edit it.\n";
+  s += comment_block(p);
+  s += fmt::format("#PBS -N {}\n", o.job_name);
+  s += fmt::format("#PBS -l select={}:ncpus={}:mpiprocs={}:mem={}mb\n", p.nodes, p.cores_per_node, p.ranks_per_node,
+                   mebibytes(p.node_memory_used));
+  s += "#PBS -l place=scatter\n";
+  s += fmt::format("#PBS -l walltime={}\n", plan::format_hms(p.job_walltime));
+  s += "#PBS -j oe\n";
+  if (!o.account.empty()) s += fmt::format("#PBS -A {}\n", o.account);
+  if (!o.partition.empty()) s += fmt::format("#PBS -q {}\n", o.partition);
+  s += "\n";
+  s += "# PBS gives no warning before the walltime ends: the solver stops itself in time\n";
+  s += "# (--time-budget), and the next job in the chain resumes from the checkpoint.\n";
+  s += "cd \"${PBS_O_WORKDIR:-.}\" || exit 1\n";
+  s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin), false);
+  s += assign("script", o.script_path);
+  s += fmt::format("max_jobs={}\n", 2 * p.jobs_high + 2);
+  s += "case \"$status\" in\n";
+  s += "  3)\n";
+  s += "    chain=\"${LODESTONE_CHAIN:-1}\"\n";
+  s += "    if [ \"$chain\" -ge \"$max_jobs\" ]; then\n";
+  s += "      echo \"lodestone job: stopped early again in job $chain of the chain (limit $max_jobs); not resubmitting. Submit this script again to resume from $checkpoint.\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
+  s += "    if [ -z \"${PBS_JOBID:-}\" ]; then\n";
+  s += "      echo \"lodestone job: not running under PBS (no PBS_JOBID); submit this script with qsub to resume from $checkpoint\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
+  s += "    if [ ! -f \"$script\" ]; then\n";
+  s += "      echo \"lodestone job: cannot chain the next job: $script is gone; submit it again to resume\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
+  s += "    # The next job starts once this one has ended, whatever its state.\n";
+  s += "    if ! next=$(qsub -W depend=afterany:\"$PBS_JOBID\" -v \"LODESTONE_CHAIN=$((chain + 1))\" \"$script\"); then\n";
+  s += "      echo \"lodestone job: qsub failed; submit this script again to resume from $checkpoint\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
+  s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; job $((chain + 1)) of the chain is $next\" >&2\n";
+  s += "    exit 0 ;;\n";
+  s += other_statuses();
+  s += "esac\n";
+  return s;
+}
+
+std::string local_script(const Plan& p, const JobOptions& o) {
+  std::string s = "#!/bin/bash\n";
+  s += "# Workstation script written by `lodestone plan`; regenerate it rather than edit it.\n";
+  s += "# Ctrl-C stops the solver at its next iteration with a checkpoint; run the script\n";
+  s += "# again to resume.\n";
+  s += comment_block(p);
+  s += "\n";
+  s += launch_block(p, o, p.job_walltime > 0 ? std::max<std::int64_t>(1, p.job_walltime - p.signal_margin) : 0, true);
+  s += "case \"$status\" in\n";
+  s += "  3)\n";
+  s += "    echo \"lodestone job: stopped early with a checkpoint in $checkpoint; run this script again to resume\" >&2\n";
+  s += "    exit 3 ;;\n";
+  s += other_statuses();
+  s += "esac\n";
+  return s;
+}
+
+}  // namespace
+
+std::string shell_quote(const std::string& value) {
+  std::string out = "'";
+  for (char c : value) {
+    if (c == '\'') out += "'\\''";
+    else out += c;
+  }
+  return out + "'";
+}
+
+Status check_script_path(const std::string& what, const std::string& value) {
+  if (value.empty()) return Status::usage(fmt::format("{} must not be empty", what));
+  if (has_control(value))
+    return Status::usage(fmt::format("{} '{}' contains a newline or another control character; a job script "
+                                     "cannot carry it safely: rename the file", what, visible(value)));
+  if (value.front() == '-')
+    return Status::usage(fmt::format("{} '{}' starts with '-' and would be read as an option; write ./{}", what,
+                                     value, value));
+  if (value.size() > 4096) return Status::usage(fmt::format("{} is too long (at most 4096 characters)", what));
+  return Status::ok();
+}
+
+Status check_script_name(const std::string& what, const std::string& value) {
+  LODESTONE_TRY(check_plain_name(what, value, false));
+  const char c = value.front();
+  if (!((c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z')))
+    return Status::usage(fmt::format("{} '{}' must start with a letter", what, value));
+  if (value.size() > 63) return Status::usage(fmt::format("{} '{}' is too long (at most 63 characters)", what, value));
+  return Status::ok();
+}
+
+Result<std::string> job_script(const Plan& plan, const JobOptions& o) {
+  LODESTONE_TRY(check_script_name("--job-name", o.job_name));
+  if (!o.account.empty()) LODESTONE_TRY(check_plain_name("--account", o.account, false));
+  if (!o.partition.empty()) LODESTONE_TRY(check_plain_name("--partition", o.partition, plan.scheduler == Scheduler::pbs));
+  LODESTONE_TRY(check_script_path("the matrix path", plan.matrix_path));
+  LODESTONE_TRY(check_script_path("--group", plan.group));
+  LODESTONE_TRY(check_script_path("--result", o.result_path));
+  LODESTONE_TRY(check_script_path("--checkpoint", o.checkpoint_path));
+  LODESTONE_TRY(check_script_path("--lodestone", o.lodestone));
+  if (plan.scheduler == Scheduler::pbs) LODESTONE_TRY(check_script_path("--out", o.script_path));
+  if (!plan.fits) return Status::input("the run does not fit as asked (see the warnings); no script written");
+  switch (plan.scheduler) {
+    case Scheduler::slurm: return slurm_script(plan, o);
+    case Scheduler::pbs: return pbs_script(plan, o);
+    case Scheduler::local: return local_script(plan, o);
+  }
+  return Status::usage("unknown scheduler");
+}
+
+}  // namespace lodestone
