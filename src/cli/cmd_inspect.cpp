@@ -2,6 +2,8 @@
 #include <fmt/format.h>
 
 #include "cli/command.hpp"
+#include "cli/inspect_result.hpp"
+#include "io/result_file.hpp"
 #include "io/matrix_summary.hpp"
 #include "support/format.hpp"
 
@@ -15,7 +17,7 @@ Command make_inspect_command(CLI::App& root) {
     double symmetry_tolerance = 1e-12;
   };
   auto args = std::make_shared<Args>();
-  CLI::App* app = root.add_subcommand("inspect", "Summarise a matrix file");
+  CLI::App* app = root.add_subcommand("inspect", "Summarise a matrix file or a results file");
   app->add_option("file", args->path, "Lodestone HDF5 file")->required();
   app->add_option("--group", args->group, "HDF5 group of the matrix")->capture_default_str();
   app->add_flag("--check", args->check,
@@ -24,8 +26,9 @@ Command make_inspect_command(CLI::App& root) {
                   "With --check: accept |a_ij - a_ji| <= tol * max|a| for a matrix declared symmetric")
       ->check(CLI::Range(0.0, 1.0))
       ->capture_default_str();
-  app->footer("Examples:\n  lodestone inspect bridge.h5\n  mpirun -n 4 lodestone inspect --check bridge.h5");
+  app->footer("Examples:\n  lodestone inspect bridge.h5\n  lodestone inspect bridge-modes.h5\n  mpirun -n 4 lodestone inspect --check bridge.h5");
   return {app, [args](MPI_Comm comm) -> Status {
+            if (io::is_result_file(comm, args->path)) return inspect_result(comm, args->path);
             // With --check, load (and so validate) first: a bad file gets its
             // one error line and no half-true summary before it.
             std::uint64_t fingerprint = 0;

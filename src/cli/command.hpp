@@ -21,6 +21,8 @@ Command make_generate_command(CLI::App& root);
 Command make_inspect_command(CLI::App& root);
 Command make_import_command(CLI::App& root);
 Command make_plan_command(CLI::App& root);
+Command make_solve_command(CLI::App& root);
+Command make_verify_command(CLI::App& root);
 
 // Prints on rank 0 only.
 void print_once(MPI_Comm comm, const std::string& text);

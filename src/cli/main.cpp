@@ -37,6 +37,7 @@ int main(int argc, char** argv) {
     (in_petsc ? petsc : ours).push_back(argv[i]);
   }
   int pargc = static_cast<int>(petsc.size());
+  petsc.push_back(nullptr);  // argv[argc] must be a null pointer for MPI_Init
   char** pargv = petsc.data();
   Runtime runtime(&pargc, &pargv);
   if (!runtime.ok()) {
@@ -53,6 +54,8 @@ int main(int argc, char** argv) {
       cli::make_inspect_command(app),
       cli::make_import_command(app),
       cli::make_plan_command(app),
+      cli::make_solve_command(app),
+      cli::make_verify_command(app),
   };
   try {
     app.parse(static_cast<int>(ours.size()), ours.data());

@@ -1,0 +1,170 @@
+// solve(): option checks, the iteration loop with budget, progress and history,
+// and the conversion of the method's pairs into a SolveResult (solver.hpp).
+#include "lodestone/solver.hpp"
+
+#include <fmt/format.h>
+#include <mpi.h>
+
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <limits>
+
+#include "algebra/operator.hpp"
+#include "methods/method.hpp"
+#include "support/collective.hpp"
+#include "support/format.hpp"
+
+namespace lodestone {
+namespace {
+
+using Clock = std::chrono::steady_clock;
+
+Result<methods::Selection> parse_selection(const std::string& s) {
+  if (s == "magnitude") return methods::Selection::magnitude;
+  if (s == "largest") return methods::Selection::largest;
+  if (s == "smallest") return methods::Selection::smallest;
+  return Status::usage(fmt::format("unknown selection '{}' (magnitude, largest or smallest)", s));
+}
+
+// Progress lines on rank 0: every few seconds, never every iteration, one line each.
+class ProgressReporter {
+ public:
+  ProgressReporter(MPI_Comm comm, double every, std::int64_t pairs)
+      : enabled_(every > 0 && comm_rank(comm) == 0), every_(every), pairs_(pairs) {}
+
+  void maybe_print(double seconds, std::int64_t iteration, std::int64_t matvecs, std::int64_t converged,
+                   const std::vector<double>& residuals, double target) {
+    if (!enabled_ || seconds - last_ < every_) return;
+    double worst = 0;
+    for (double r : residuals)
+      if (std::isfinite(r)) worst = std::max(worst, r);
+    std::string eta = "unknown";
+    if (worst > 0 && last_worst_ > 0 && worst < last_worst_ && seconds > last_) {
+      // Observed rate of the worst residual, extrapolated to the target.
+      const double rate = std::log(last_worst_ / worst) / (seconds - last_);
+      if (rate > 0) eta = "~" + human_seconds(std::max(0.0, std::log(worst / target) / rate));
+    }
+    std::fprintf(stderr, "[%9s] iteration %lld  matvecs %lld  converged %lld/%lld  worst residual %.2e  left %s\n",
+                 human_seconds(seconds).c_str(), static_cast<long long>(iteration), static_cast<long long>(matvecs),
+                 static_cast<long long>(converged), static_cast<long long>(pairs_), worst, eta.c_str());
+    std::fflush(stderr);
+    last_ = seconds;
+    last_worst_ = worst;
+  }
+
+ private:
+  bool enabled_;
+  double every_;
+  std::int64_t pairs_;
+  double last_ = 0;
+  double last_worst_ = 0;
+};
+
+}  // namespace
+
+Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
+  const auto t0 = Clock::now();
+  MPI_Comm comm = matrix.comm();
+  const MatrixInfo& info = matrix.info();
+  auto selection = parse_selection(options.selection);
+  if (!selection) return selection.status();
+  if (options.pairs < 1) return Status::usage("--pairs must be at least 1");
+  if (options.pairs > info.rows)
+    return Status::usage(fmt::format("--pairs {} exceeds the matrix order {}", options.pairs, info.rows));
+  if (!(options.tolerance > 0 && options.tolerance < 1))
+    return Status::usage("--tol must be between 0 and 1");
+  if (*selection == methods::Selection::smallest && !info.symmetric)
+    return Status::usage("--select smallest needs a symmetric matrix (this one is not declared symmetric)");
+  std::string method_name = options.method;
+  if (method_name == "auto") {
+    method_name = info.symmetric ? "chebyshev" : "block";
+    if (options.note && comm_rank(comm) == 0)
+      options.note(fmt::format("method auto: using {} ({} matrix)", method_name,
+                               info.symmetric ? "symmetric" : "non-symmetric"));
+  }
+  const methods::MethodInfo* entry = methods::find_method(method_name);
+  if (!entry) return Status::usage(fmt::format("unknown method '{}' (auto, power, block or chebyshev)", options.method));
+  if (entry->symmetric_only && !info.symmetric)
+    return Status::usage(fmt::format("--method {} needs a symmetric matrix; use --method block for this one", method_name));
+  if (options.has_shift && method_name == "chebyshev")
+    return Status::usage("--shift applies to --method power and block; the Chebyshev filter chooses its own interval");
+  if (options.block_size != 0 && options.block_size < options.pairs && method_name != "power")
+    return Status::usage(fmt::format("--block-size {} is smaller than --pairs {}", options.block_size, options.pairs));
+
+  auto norm = algebra::norm_estimate(matrix.petsc());
+  LODESTONE_TRY(agree(comm, norm.status()));
+  methods::Problem problem;
+  problem.symmetric = info.symmetric;
+  problem.selection = *selection;
+  problem.pairs = static_cast<int>(options.pairs);
+  problem.block_size = static_cast<int>(std::min<std::int64_t>(options.block_size, info.rows));
+  problem.tolerance = options.tolerance;
+  problem.norm_estimate = *norm > 0 ? *norm : 1.0;
+  // Every rank must test convergence against the very same number.
+  MPI_Bcast(&problem.norm_estimate, 1, MPI_DOUBLE, 0, comm);
+  problem.seed = options.seed;
+  problem.has_shift = options.has_shift;
+  problem.shift = options.shift;
+
+  algebra::Operator op(matrix.petsc());
+  auto method = entry->make();
+  LODESTONE_TRY(method->setup(op, problem));
+
+  SolveResult result;
+  ProgressReporter progress(comm, options.progress_seconds, options.pairs);
+  auto elapsed = [&] { return std::chrono::duration<double>(Clock::now() - t0).count(); };
+  auto record = [&] {
+    HistoryRecord h;
+    h.iteration = method->iterations();
+    h.matvecs = op.matvecs();
+    h.seconds = elapsed();
+    method->progress(h.estimates, h.residuals);
+    h.converged = std::min<std::int64_t>(method->converged(), options.pairs);
+    // Only rank 0 prints, so the clock-driven decision needs no agreement.
+    progress.maybe_print(h.seconds, h.iteration, h.matvecs, h.converged, h.residuals,
+                         options.tolerance * problem.norm_estimate);
+    result.history.push_back(std::move(h));
+  };
+  record();
+  while (method->converged() < options.pairs) {
+    if (options.max_matvecs > 0 && op.matvecs() >= options.max_matvecs) break;
+    LODESTONE_TRY(method->step());
+    record();
+  }
+
+  auto pairs = method->extract();
+  if (!pairs) return pairs.status();
+  result.eigenvalues = pairs->re;
+  result.eigenvalues_imag = pairs->im;
+  result.residual_norms = pairs->residuals;
+  result.rows = info.rows;
+  result.row_begin = info.row_begin;
+  result.row_end = info.row_end;
+  const auto& v = pairs->vectors;
+  const std::size_t local = static_cast<std::size_t>(v.local_rows());
+  result.vectors.resize(local * static_cast<std::size_t>(v.cols()));
+  for (int j = 0; j < v.cols(); ++j)
+    std::copy(v.column(j), v.column(j) + local, result.vectors.begin() + static_cast<std::ptrdiff_t>(j * local));
+  // History records hold one entry per returned pair (fewer than K when a
+  // single-vector run stops on its budget, K+1 when a complex pair ends the list).
+  for (auto& h : result.history) {
+    h.estimates.resize(pairs->re.size(), std::numeric_limits<double>::quiet_NaN());
+    h.residuals.resize(pairs->re.size(), std::numeric_limits<double>::quiet_NaN());
+  }
+  result.converged = pairs->converged;
+  result.method = method->name();
+  result.selection = methods::selection_name(*selection);
+  result.tolerance = options.tolerance;
+  result.norm_estimate = problem.norm_estimate;
+  result.matvecs = op.matvecs();
+  result.iterations = method->iterations();
+  result.ranks = comm_size(comm);
+  result.matrix_fingerprint = info.fingerprint;
+  result.elapsed_seconds = elapsed();
+  // Rank 0's clock is the run's clock.
+  MPI_Bcast(&result.elapsed_seconds, 1, MPI_DOUBLE, 0, comm);
+  return result;
+}
+
+}  // namespace lodestone

@@ -1,0 +1,90 @@
+// `lodestone solve MATRIX.h5 --pairs K --out RESULT.h5 ...`: options in, solve()
+// through the public API, a closing table out. No numerics here.
+#include <fmt/format.h>
+#include <limits>
+
+#include "cli/command.hpp"
+#include "lodestone/result.hpp"
+#include "lodestone/solver.hpp"
+
+namespace lodestone::cli {
+
+namespace {
+
+std::string closing_table(const SolveResult& r) {
+  std::string out = fmt::format("{} pair(s) by {} with {}: {} converged, {} matvecs, {} iterations, {:.2f} s on {} rank(s)\n",
+                                r.pairs(), r.selection, r.method, r.converged, r.matvecs, r.iterations,
+                                r.elapsed_seconds, r.ranks);
+  out += fmt::format("tolerance {:.1e} x ||A||_est {:.6g} (sqrt(||A||_1 ||A||_inf))\n", r.tolerance, r.norm_estimate);
+  out += fmt::format("{:>4}  {:>24}  {:>24}  {:>11}  {}\n", "pair", "eigenvalue (real)", "imaginary", "residual", "status");
+  for (std::int64_t j = 0; j < r.pairs(); ++j) {
+    out += fmt::format("{:>4}  {:>24.16g}  {:>24.16g}  {:>11.3e}  {}\n", j + 1, r.eigenvalues[j], r.eigenvalues_imag[j],
+                       r.residual_norms[j], j < r.converged ? "converged" : "not converged");
+  }
+  return out;
+}
+
+}  // namespace
+
+Command make_solve_command(CLI::App& root) {
+  struct Args {
+    std::string matrix;
+    std::string out;
+    std::string group = "/matrix";
+    SolveOptions solve;
+    double shift = 0;
+    bool quiet = false;
+  };
+  auto args = std::make_shared<Args>();
+  CLI::App* app = root.add_subcommand("solve", "Find K wanted eigenpairs of a matrix file, with residuals");
+  app->add_option("matrix", args->matrix, "matrix file (HDF5, Lodestone layout)")->required();
+  app->add_option("--pairs,-k", args->solve.pairs, "number of eigenpairs K")->required()->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
+  app->add_option("--out,-o", args->out, "results file to write (HDF5, written atomically)")->required();
+  app->add_option("--select", args->solve.selection, "which pairs: magnitude (largest |lambda|), largest, smallest (symmetric only)")
+      ->check(CLI::IsMember({"magnitude", "largest", "smallest"}))
+      ->capture_default_str();
+  app->add_option("--method", args->solve.method, "auto (chebyshev if symmetric, else block) | power | block | chebyshev")
+      ->check(CLI::IsMember({"auto", "power", "block", "chebyshev"}))
+      ->capture_default_str();
+  app->add_option("--tol", args->solve.tolerance, "converged when ||Av - lambda v|| <= tol * ||A||_est")
+      ->check(CLI::Range(1e-16, 0.5))
+      ->capture_default_str();
+  app->add_option("--max-matvecs", args->solve.max_matvecs, "budget of matrix-vector products (0: none); exit 4 when it runs out")
+      ->check(CLI::Range(std::int64_t{0}, std::numeric_limits<std::int64_t>::max()))
+      ->capture_default_str();
+  app->add_option("--seed", args->solve.seed, "seed of the start vectors (same seed, same answer on any rank count)")->capture_default_str();
+  app->add_option("--group", args->group, "HDF5 group of the matrix")->capture_default_str();
+  CLI::Option* shift = app->add_option("--shift", args->shift, "power and block: iterate with A - shift*I");
+  app->add_option("--block-size", args->solve.block_size, "block and chebyshev: vectors per block (default K plus a few)")
+      ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
+  app->add_flag("--quiet,-q", args->quiet, "no progress lines and no closing table");
+  app->footer(
+      "Exit status: 0 all K pairs converged, 1 input or runtime error, 2 usage error,\n"
+      "4 matvec budget exhausted (the results file holds the converged pairs).\n"
+      "PETSc options (e.g. -log_view) go after a lone --petsc.\n"
+      "Examples:\n"
+      "  lodestone solve plate.h5 --pairs 8 --select largest --out modes.h5\n"
+      "  mpirun -n 4 lodestone solve chain.h5 --pairs 4 --method block --out chain-modes.h5");
+  return {app, [args, shift](MPI_Comm comm) -> Status {
+            LoadOptions load;
+            load.group = args->group;
+            auto m = Matrix::load(comm, args->matrix, load);
+            if (!m) return m.status();
+            SolveOptions o = args->solve;
+            o.has_shift = shift->count() > 0;
+            o.shift = args->shift;
+            if (args->quiet) o.progress_seconds = 0;
+            if (!args->quiet) o.note = [](const std::string& s) { std::fprintf(stderr, "%s\n", s.c_str()); };
+            auto r = solve(*m, o);
+            if (!r) return r.status();
+            if (!args->out.empty()) LODESTONE_TRY(write_result(comm, args->out, *r, {args->matrix}));
+            if (!args->quiet) print_once(comm, closing_table(*r));
+            if (r->converged < o.pairs)
+              return Status::budget(fmt::format("the matvec budget ({}) ran out with {} of {} pairs converged{}",
+                                                o.max_matvecs, r->converged, o.pairs,
+                                                args->out.empty() ? "" : "; " + args->out + " holds them"));
+            return Status::ok();
+          }};
+}
+
+}  // namespace lodestone::cli

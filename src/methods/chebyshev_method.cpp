@@ -1,0 +1,188 @@
+// `chebyshev` (symmetric input): Chebyshev-filtered block iteration. Instead of
+// multiplying the block by A once per Rayleigh-Ritz step, it applies a
+// Chebyshev polynomial p_m(A) of degree m that stays within [-1, 1] on the
+// unwanted interval [a, b] of the spectrum and grows as fast as any polynomial
+// can outside it, so each pass over the matrix buys far more separation than a
+// plain power step. The interval's outer end comes from a short Lanczos run; its
+// inner end (the cut) is the least wanted Ritz value of the block, refined at
+// every Rayleigh-Ritz step. The degree is chosen from the observed residual and
+// the Ritz values so a cycle aims at the tolerance without overshooting.
+//
+// Three-term recurrence, scaled by T_k at the point gamma (the far end of the
+// wanted side) so nothing overflows: with t(A) = (A - e I) / h, x0 = t(gamma),
+// r_0 = 1 / x0 and r_k = 1 / (2 x0 - r_{k-1}),
+//   Y_1 = t(A) X r_0,   Y_{k+1} = 2 r_k t(A) Y_k - r_k r_{k-1} Y_{k-1}.
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+
+#include "methods/lanczos.hpp"
+#include "methods/subspace.hpp"
+#include "support/collective.hpp"
+
+namespace lodestone::methods {
+namespace {
+
+constexpr int kLanczosSteps = 24;
+constexpr int kMinDegree = 4;
+constexpr int kMaxDegree = 400;
+constexpr int kStartDegree = 10;
+
+class ChebyshevMethod final : public SubspaceMethod {
+ public:
+  const char* name() const override { return "chebyshev"; }
+
+  Status setup(algebra::Operator& op, const Problem& problem) override {
+    if (!problem.symmetric)
+      return Status::usage("--method chebyshev needs a symmetric matrix; use --method block for this one");
+    LODESTONE_TRY(init(op, problem));
+    auto bounds = lanczos_bounds(op, kLanczosSteps, problem.seed, 1u << 30, problem.norm_estimate);
+    if (!bounds) return bounds.status();
+    bounds_ = *bounds;
+    PetscInt n = 0;
+    MatGetSize(op.mat(), &n, nullptr);
+    int b = problem.block_size > 0 ? problem.block_size : problem.pairs + std::max(4, problem.pairs / 2);
+    b = static_cast<int>(std::min<PetscInt>(b, n));
+    guard_ = std::max(0, b - problem.pairs);
+    LODESTONE_TRY(resize_active(b));
+    LODESTONE_TRY(randomize(0));
+    LODESTONE_TRY(agree(comm_, product()));
+    LODESTONE_TRY(rayleigh_ritz());
+    degree_ = kStartDegree;
+    return lock_converged();
+  }
+
+  Status step() override {
+    if (wanted_left() == 0) return Status::ok();
+    if (active_ == 0) {
+      LODESTONE_TRY(resize_active(std::max(1, wanted_left() + guard_)));
+      LODESTONE_TRY(randomize(0));
+      LODESTONE_TRY(agree(comm_, product()));
+      LODESTONE_TRY(rayleigh_ritz());
+    }
+    LODESTONE_TRY(filter());
+    LODESTONE_TRY(orthonormalize_active());
+    LODESTONE_TRY(agree(comm_, product()));
+    LODESTONE_TRY(rayleigh_ritz());
+    ++iterations_;
+    // Ritz values interlace: they never step outside the spectrum, so they can widen the bounds.
+    for (int j = 0; j < active_; ++j) {
+      bounds_.lower = std::min(bounds_.lower, ritz_re_[j]);
+      bounds_.upper = std::max(bounds_.upper, ritz_re_[j]);
+    }
+    return lock_converged();
+  }
+
+ private:
+  Status lock_converged() { return lock(std::min(convergeable_prefix(), wanted_left())); }
+
+  // The unwanted interval [a, b] and the normalization point gamma for the current cut.
+  bool interval(double& a, double& b, double& gamma) const {
+    const double cut = ritz_re_[active_ - 1];
+    switch (problem_.selection) {
+      case Selection::largest:
+        a = bounds_.lower, b = cut, gamma = bounds_.upper;
+        break;
+      case Selection::smallest:
+        a = cut, b = bounds_.upper, gamma = bounds_.lower;
+        break;
+      default: {
+        const double c = std::fabs(cut);
+        a = std::max(-c, bounds_.lower);
+        b = std::min(c, bounds_.upper);
+        gamma = std::fabs(bounds_.upper) >= std::fabs(bounds_.lower) ? bounds_.upper : bounds_.lower;
+      }
+    }
+    return b - a > 1e-14 * problem_.norm_estimate;
+  }
+
+  int choose_degree(double e, double h) const {
+    // The least wanted pair still needed sets the pace: the filter grows its
+    // component by about exp(m * acosh|t(theta)|) relative to the unwanted part.
+    const int j = std::min(active_ - 1, std::max(0, wanted_left() - 1));
+    const double x = std::fabs((ritz_re_[j] - e) / h);
+    const double rate = std::acosh(std::max(x, 1.0 + 1e-10));
+    const double need = std::log(std::max(2.0, ritz_res_[j] / (0.5 * threshold())));
+    double m = std::ceil(need / rate);
+    m = std::min<double>(m, 2.0 * degree_ + 4);
+    return static_cast<int>(std::clamp<double>(m, kMinDegree, kMaxDegree));
+  }
+
+  Status ensure_buffers() {
+    if (f1_.mat() == nullptr || f1_.cols() != active_) {
+      auto f = algebra::Block::like(op_->mat(), active_);
+      if (!f) return f.status();
+      auto z = algebra::Block::like(op_->mat(), active_);
+      if (!z) return z.status();
+      f1_ = std::move(*f);
+      z_ = std::move(*z);
+    }
+    return Status::ok();
+  }
+
+  Status filter() {
+    double a = 0, b = 0, gamma = 0;
+    if (!interval(a, b, gamma)) {
+      // No room between the cut and the bound: a plain power step on A - sigma I instead.
+      algebra::combine(x_, -sigma_, w_, 1.0);
+      return Status::ok();
+    }
+    const double e = 0.5 * (a + b), h = 0.5 * (b - a);
+    const double x0 = (gamma - e) / h;
+    degree_ = choose_degree(e, h);
+    LODESTONE_TRY(ensure_buffers());
+    const PetscInt rows = x_.local_rows();
+    // Y_1 = (W - e X) r_0 / h, using W = A X from the last Rayleigh-Ritz step.
+    double r_prev = 1.0 / x0;
+    {
+      const double s = r_prev / h;
+      for (int j = 0; j < active_; ++j) {
+        const double* w = w_.column(j);
+        const double* x = x_.column(j);
+        double* y = f1_.column(j);
+        for (PetscInt i = 0; i < rows; ++i) y[i] = s * (w[i] - e * x[i]);
+      }
+      f1_.changed();
+    }
+    algebra::Block* prev = &x_;
+    algebra::Block* cur = &f1_;
+    for (int k = 1; k < degree_; ++k) {
+      LODESTONE_TRY(agree(comm_, op_->apply(*cur, z_)));
+      const double r = 1.0 / (2.0 * x0 - r_prev);
+      const double alpha = 2.0 * r / h, beta = -r * r_prev;
+      for (int j = 0; j < active_; ++j) {
+        const double* z = z_.column(j);
+        const double* c = cur->column(j);
+        double* p = prev->column(j);
+        for (PetscInt i = 0; i < rows; ++i) p[i] = alpha * (z[i] - e * c[i]) + beta * p[i];
+      }
+      prev->changed();
+      std::swap(prev, cur);
+      r_prev = r;
+    }
+    if (cur != &x_) std::swap(x_, f1_);
+    return Status::ok();
+  }
+
+  void save_extra(MethodState& s) const override {
+    s.scalars["chebyshev"] = {bounds_.lower, bounds_.upper, static_cast<double>(degree_), static_cast<double>(guard_)};
+  }
+  Status restore_extra(MethodState& s) override {
+    auto c = s.scalars["chebyshev"];
+    if (c.size() != 4) return Status::input("the saved Chebyshev state is incomplete");
+    bounds_.lower = c[0], bounds_.upper = c[1], degree_ = static_cast<int>(c[2]), guard_ = static_cast<int>(c[3]);
+    return Status::ok();
+  }
+
+  SpectrumBounds bounds_;
+  int degree_ = kStartDegree;
+  int guard_ = 4;
+  algebra::Block f1_, z_;
+};
+
+}  // namespace
+
+std::unique_ptr<Method> make_chebyshev() { return std::make_unique<ChebyshevMethod>(); }
+
+}  // namespace lodestone::methods

@@ -1,0 +1,93 @@
+// Method: the one shape every eigen-method has, so the solve loop, the
+// progress report and the checkpoint layer treat them all alike.
+//
+// A method is set up on an Operator (the matrix with a product counter) and a
+// Problem (what to find), then stepped one iteration at a time by the caller,
+// which owns the loop, the budget and the clock. Between steps it can say how
+// many wanted pairs are converged and give the current estimates; at the end it
+// extracts the pairs. Its whole state can be saved as named distributed blocks
+// (laid out by global row, like the matrix) plus named replicated scalars, and
+// restored from them on any number of ranks: that is all a checkpoint needs.
+#pragma once
+
+#include <petscmat.h>
+
+#include <cstdint>
+#include <map>
+#include <memory>
+#include <string>
+#include <string_view>
+#include <utility>
+#include <vector>
+
+#include "algebra/block.hpp"
+#include "algebra/operator.hpp"
+#include "lodestone/status.hpp"
+
+namespace lodestone::methods {
+
+enum class Selection { magnitude, largest, smallest };
+const char* selection_name(Selection s);
+
+struct Problem {
+  bool symmetric = false;
+  Selection selection = Selection::magnitude;
+  int pairs = 1;                 // K
+  int block_size = 0;            // 0: the method's default
+  double tolerance = 1e-8;       // relative to norm_estimate
+  double norm_estimate = 1.0;    // ||A||_est
+  std::uint64_t seed = 0;
+  bool has_shift = false;        // power and block: iterate with A - shift*I
+  double shift = 0.0;
+};
+
+// Everything a method needs to continue later, possibly on another rank count.
+struct MethodState {
+  std::vector<std::pair<std::string, algebra::Block>> blocks;  // distributed, rows as the matrix
+  std::map<std::string, std::vector<double>> scalars;          // replicated
+};
+
+// The final pairs, most wanted first; a complex pair is never split.
+struct Pairs {
+  std::vector<double> re, im, residuals;
+  int converged = 0;           // the first `converged` entries met the tolerance
+  algebra::Block vectors;      // unit 2-norm (a complex pair: the complex vector has unit norm)
+};
+
+class Method {
+ public:
+  virtual ~Method() = default;
+  virtual const char* name() const = 0;
+  // Collective. Prepares start vectors (may use products).
+  virtual Status setup(algebra::Operator& op, const Problem& problem) = 0;
+  // Collective. One iteration.
+  virtual Status step() = 0;
+  // Wanted pairs converged and locked so far (may exceed K by one to keep a complex pair whole).
+  virtual int converged() const = 0;
+  virtual std::int64_t iterations() const = 0;
+  // Length K: current estimate (real part) and residual of each wanted pair still
+  // being worked on; NaN for locked pairs and for pairs not yet in view.
+  virtual void progress(std::vector<double>& estimates, std::vector<double>& residuals) const = 0;
+  // Collective. Converged pairs first, then the best approximations to the rest,
+  // up to K (one product with the matrix to certify the residuals).
+  virtual Result<Pairs> extract() = 0;
+  // Collective. Save and restore the whole state; restore() replaces setup().
+  virtual Status save(MethodState& state) = 0;
+  virtual Status restore(algebra::Operator& op, const Problem& problem, MethodState& state) = 0;
+};
+
+// The registry: adding a method is one more entry of the same shape.
+struct MethodInfo {
+  const char* name;
+  const char* summary;
+  bool symmetric_only;
+  std::unique_ptr<Method> (*make)();
+};
+const std::vector<MethodInfo>& registry();
+const MethodInfo* find_method(std::string_view name);
+
+std::unique_ptr<Method> make_power();
+std::unique_ptr<Method> make_block();
+std::unique_ptr<Method> make_chebyshev();
+
+}  // namespace lodestone::methods

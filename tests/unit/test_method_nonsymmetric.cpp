@@ -1,0 +1,195 @@
+// Non-symmetric input: dominant pairs of equal modulus (+-lambda, complex),
+// random matrices in both file layouts cross-checked against LAPACK's dgeev
+// (through LAPACKE, Debian liblapacke-dev), and a damped random walk whose
+// eigenvector for eigenvalue 1 is the stationary distribution.
+#include <gtest/gtest.h>
+#include <lapacke.h>
+
+#include <algorithm>
+#include <cmath>
+#include <complex>
+
+#include "io/generators.hpp"
+#include "test_solver_matrices.hpp"
+
+using namespace lodestone;
+
+namespace {
+
+// Block upper triangular: a 2x2 block on rows 0-1, then a diagonal 3.0, 2.8, ...
+// with upper couplings. Its eigenvalues are those of the 2x2 block plus the
+// diagonal (a triangular-block matrix's spectrum is its diagonal blocks').
+test::RowRule planted(double a, double b, double c, double d, std::int64_t n) {
+  return [=](std::int64_t i, test::Entries& e) {
+    if (i == 0) e.push_back({0, a}), e.push_back({1, b});
+    if (i == 1) e.push_back({0, c}), e.push_back({1, d});
+    if (i >= 2) e.push_back({i, 3.0 - 0.2 * static_cast<double>(i - 2)});
+    if (i + 1 < n && i >= 1) e.push_back({i + 1, 0.5});
+    if (i <= 1) e.push_back({n - 1, 0.3});
+  };
+}
+
+std::vector<std::complex<double>> reference_eigenvalues(std::int64_t n, const test::RowRule& rule) {
+  auto a = test::full_dense(n, rule);
+  std::vector<double> wr(n), wi(n);
+  // Reference: LAPACK dgeev through LAPACKE (general real eigenproblem).
+  int info = LAPACKE_dgeev(LAPACK_ROW_MAJOR, 'N', 'N', static_cast<int>(n), a.data(), static_cast<int>(n), wr.data(),
+                           wi.data(), nullptr, 1, nullptr, 1);
+  EXPECT_EQ(info, 0);
+  std::vector<std::complex<double>> w;
+  for (std::int64_t i = 0; i < n; ++i) w.emplace_back(wr[i], wi[i]);
+  std::sort(w.begin(), w.end(), [](auto x, auto y) {
+    if (std::abs(std::abs(x) - std::abs(y)) > 1e-9) return std::abs(x) > std::abs(y);
+    return x.imag() > y.imag();
+  });
+  return w;
+}
+
+// Each returned value must match a distinct reference value among the first k+1 by modulus.
+void expect_match(const SolveResult& r, const std::vector<std::complex<double>>& ref, double tol) {
+  std::vector<bool> used(ref.size(), false);
+  for (std::int64_t j = 0; j < r.pairs(); ++j) {
+    std::complex<double> got(r.eigenvalues[j], r.eigenvalues_imag[j]);
+    int best = -1;
+    for (std::size_t i = 0; i < ref.size(); ++i)
+      if (!used[i] && (best < 0 || std::abs(ref[i] - got) < std::abs(ref[best] - got))) best = static_cast<int>(i);
+    ASSERT_GE(best, 0);
+    EXPECT_LT(std::abs(ref[best] - got), tol) << "pair " << j << " got " << got << " nearest " << ref[best];
+    EXPECT_LT(best, r.pairs() + 1) << "pair " << j << " is not among the wanted ones";
+    used[best] = true;
+  }
+}
+
+}  // namespace
+
+TEST(MethodNonsymmetric, PlusMinusPairBlockFindsPowerReports) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 12;
+  auto rule = planted(0.0, 10.0, 2.5, 0.0, n);  // 2x2 block with eigenvalues +5 and -5
+  auto m = test::build_aij(comm, n, false, rule);
+  ASSERT_TRUE(m.is_ok()) << m.status().message();
+  auto r = solve(*m, test::quiet_options(2, "block", "magnitude"));
+  ASSERT_TRUE(r.is_ok()) << r.status().message();
+  ASSERT_EQ(r->pairs(), 2);
+  EXPECT_EQ(r->converged, 2);
+  std::vector<double> got = {r->eigenvalues[0], r->eigenvalues[1]};
+  std::sort(got.begin(), got.end());
+  EXPECT_NEAR(got[0], -5.0, 1e-7);
+  EXPECT_NEAR(got[1], 5.0, 1e-7);
+  for (std::int64_t j = 0; j < 2; ++j) {
+    EXPECT_EQ(r->eigenvalues_imag[j], 0.0);
+    EXPECT_LE(test::recomputed_residual(*m, *r, j), 2 * r->tolerance * r->norm_estimate);
+  }
+  auto p = solve(*m, test::quiet_options(2, "power", "magnitude"));
+  ASSERT_FALSE(p.is_ok());
+  EXPECT_EQ(p.status().kind(), ErrorKind::input);
+  EXPECT_NE(p.status().message().find("stalled"), std::string::npos) << p.status().message();
+  EXPECT_NE(p.status().message().find("--method block"), std::string::npos) << p.status().message();
+}
+
+TEST(MethodNonsymmetric, ComplexPairBlockFindsPowerReports) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 12;
+  auto rule = planted(3.0, 4.0, -4.0, 3.0, n);  // eigenvalues 3 +- 4i, modulus 5
+  auto m = test::build_aij(comm, n, false, rule);
+  ASSERT_TRUE(m.is_ok());
+  auto r = solve(*m, test::quiet_options(2, "block", "magnitude"));
+  ASSERT_TRUE(r.is_ok()) << r.status().message();
+  ASSERT_EQ(r->pairs(), 2);
+  EXPECT_EQ(r->converged, 2);
+  EXPECT_NEAR(r->eigenvalues[0], 3.0, 1e-7);
+  EXPECT_NEAR(r->eigenvalues[1], 3.0, 1e-7);
+  EXPECT_NEAR(r->eigenvalues_imag[0], 4.0, 1e-7);  // positive imaginary part first
+  EXPECT_NEAR(r->eigenvalues_imag[1], -4.0, 1e-7);
+  EXPECT_LE(r->residual_norms[0], r->tolerance * r->norm_estimate);
+  // The complex vector (columns 0 and 1) has unit norm.
+  auto g = test::vector_gram(comm, *r);
+  EXPECT_NEAR(g[0] + g[3], 1.0, 1e-10);
+  auto p = solve(*m, test::quiet_options(1, "power", "magnitude"));
+  ASSERT_FALSE(p.is_ok());
+  EXPECT_NE(p.status().message().find("--method block"), std::string::npos) << p.status().message();
+}
+
+TEST(MethodNonsymmetric, RandomDenseAndCsrAgainstLapack) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 36;
+  // Random entries from the counter-based hash, with three planted diagonal values so
+  // that the wanted pairs stand clear of the random bulk (spectral radius about 1).
+  auto dense_rule = [&](std::int64_t i, test::Entries& e) {
+    for (std::int64_t j = 0; j < n; ++j) {
+      double v = 0.4 * (io::hashed_uniform(11, static_cast<std::uint64_t>(i), static_cast<std::uint64_t>(j)) - 0.5);
+      if (i == j && i < 3) v += (i == 0 ? 6.0 : i == 1 ? -4.5 : 3.5);
+      e.push_back({j, v});
+    }
+  };
+  auto sparse_rule = [&](std::int64_t i, test::Entries& e) {
+    e.push_back({i, i == 0 ? 5.0 : i == 1 ? -4.0 : i == 2 ? 3.2 : 0.1});
+    for (int k = 0; k < 4; ++k) {
+      auto j = static_cast<std::int64_t>(io::hashed_uniform(12, static_cast<std::uint64_t>(i), k) * static_cast<double>(n));
+      if (j != i) e.push_back({j, io::hashed_uniform(13, static_cast<std::uint64_t>(i), k) - 0.5});
+    }
+  };
+  for (bool dense : {true, false}) {
+    SCOPED_TRACE(dense ? "dense" : "csr");
+    test::RowRule rule = dense ? test::RowRule(dense_rule) : test::RowRule(sparse_rule);
+    auto m = test::build_file(comm, n, false, dense, rule);
+    ASSERT_TRUE(m.is_ok()) << m.status().message();
+    EXPECT_EQ(m->info().layout, dense ? Layout::dense : Layout::csr);
+    auto ref = reference_eigenvalues(n, rule);
+    auto r = solve(*m, test::quiet_options(3, "block", "magnitude"));
+    ASSERT_TRUE(r.is_ok()) << r.status().message();
+    EXPECT_EQ(r->converged, r->pairs());
+    expect_match(*r, ref, 1e-6);
+    for (std::int64_t j = 0; j < r->pairs(); ++j)
+      if (r->eigenvalues_imag[j] == 0.0) EXPECT_LE(test::recomputed_residual(*m, *r, j), 2 * r->tolerance * r->norm_estimate);
+    auto a = solve(*m, test::quiet_options(2, "auto", "magnitude"));
+    ASSERT_TRUE(a.is_ok()) << a.status().message();
+    EXPECT_EQ(a->method, "block");
+  }
+}
+
+TEST(MethodNonsymmetric, DampedRandomWalkStationaryDistribution) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 40;
+  const double damping = 0.85;
+  // A directed graph: node j links to j+1, 3j+1 and 7j+2 (mod n), distinct targets only.
+  auto targets = [&](std::int64_t j) {
+    std::vector<std::int64_t> t = {(j + 1) % n, (3 * j + 1) % n, (7 * j + 2) % n};
+    std::sort(t.begin(), t.end());
+    t.erase(std::unique(t.begin(), t.end()), t.end());
+    return t;
+  };
+  // Column-stochastic: A = damping * P + (1 - damping) / n * ones, P[i][j] = 1/outdeg(j) for each link j -> i.
+  auto rule = [&](std::int64_t i, test::Entries& e) {
+    for (std::int64_t j = 0; j < n; ++j) {
+      double v = (1.0 - damping) / static_cast<double>(n);
+      auto t = targets(j);
+      if (std::find(t.begin(), t.end(), i) != t.end()) v += damping / static_cast<double>(t.size());
+      e.push_back({j, v});
+    }
+  };
+  auto m = test::build_file(comm, n, false, true, rule);
+  ASSERT_TRUE(m.is_ok()) << m.status().message();
+  // Reference: solve (I - A) x = 0 with the last equation replaced by sum(x) = 1 (LAPACKE dgesv).
+  auto a = test::full_dense(n, rule);
+  std::vector<double> lhs(static_cast<std::size_t>(n * n)), x(n, 0.0);
+  for (std::int64_t i = 0; i < n; ++i)
+    for (std::int64_t j = 0; j < n; ++j)
+      lhs[i * n + j] = i == n - 1 ? 1.0 : (i == j ? 1.0 : 0.0) - a[i * n + j];
+  x[n - 1] = 1.0;
+  std::vector<int> piv(n);
+  ASSERT_EQ(LAPACKE_dgesv(LAPACK_ROW_MAJOR, static_cast<int>(n), 1, lhs.data(), static_cast<int>(n), piv.data(), x.data(), 1), 0);
+  for (const char* method : {"block", "power"}) {
+    SCOPED_TRACE(method);
+    auto r = solve(*m, test::quiet_options(1, method, "magnitude"));
+    ASSERT_TRUE(r.is_ok()) << r.status().message();
+    EXPECT_NEAR(r->eigenvalues[0], 1.0, 1e-9);
+    EXPECT_EQ(r->eigenvalues_imag[0], 0.0);
+    // Scale the unit vector to sum 1 and compare with the direct solve, row by row.
+    double local_sum = 0;
+    for (std::int64_t i = 0; i < r->local_rows(); ++i) local_sum += r->vectors[i];
+    const double sum = sum_all(comm, local_sum);
+    for (std::int64_t i = 0; i < r->local_rows(); ++i)
+      EXPECT_NEAR(r->vectors[i] / sum, x[r->row_begin + i], 1e-8) << "row " << r->row_begin + i;
+  }
+}

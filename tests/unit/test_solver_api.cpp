@@ -1,0 +1,101 @@
+// The solve() API: refusals, the matvec budget, and the method interface's
+// save/restore (what checkpoints will use) continuing a run to the same answer.
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+#include "algebra/operator.hpp"
+#include "io/generators.hpp"
+#include "methods/method.hpp"
+#include "test_solver_matrices.hpp"
+
+using namespace lodestone;
+
+namespace {
+Matrix laplace1d(std::int64_t n) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  std::string path = test::temp_path(comm, "api-lap1.h5");
+  EXPECT_TRUE(io::write_csr_file(comm, path, "/matrix", n, true, io::generate_laplace1d(comm, n)).is_ok());
+  auto m = Matrix::load(comm, path);
+  EXPECT_TRUE(m.is_ok());
+  return std::move(*m);
+}
+// Closed form (standard finite-difference result): eigenvalues of tridiag(-1, 2, -1).
+double lap1(std::int64_t n, std::int64_t j) { return 2.0 - 2.0 * std::cos(static_cast<double>(j) * M_PI / static_cast<double>(n + 1)); }
+
+test::RowRule nonsymmetric(std::int64_t n) {
+  return [n](std::int64_t i, test::Entries& e) {
+    e.push_back({i, 1.0 + static_cast<double>(i)});
+    if (i + 1 < n) e.push_back({i + 1, 0.5});
+  };
+}
+}  // namespace
+
+TEST(SolverApi, RefusesWhatNonSymmetricInputCannotDo) {
+  auto m = test::build_aij(MPI_COMM_WORLD, 8, false, nonsymmetric(8));
+  ASSERT_TRUE(m.is_ok());
+  auto a = solve(*m, test::quiet_options(2, "chebyshev", "magnitude"));
+  ASSERT_FALSE(a.is_ok());
+  EXPECT_EQ(a.status().kind(), ErrorKind::usage);
+  EXPECT_NE(a.status().message().find("--method chebyshev needs a symmetric matrix"), std::string::npos);
+  auto b = solve(*m, test::quiet_options(2, "block", "smallest"));
+  ASSERT_FALSE(b.is_ok());
+  EXPECT_EQ(b.status().kind(), ErrorKind::usage);
+  EXPECT_NE(b.status().message().find("--select smallest needs a symmetric matrix"), std::string::npos);
+  auto c = solve(*m, test::quiet_options(9, "block", "magnitude"));
+  ASSERT_FALSE(c.is_ok());
+  EXPECT_NE(c.status().message().find("exceeds the matrix order"), std::string::npos);
+  // An upper triangular matrix: its eigenvalues are its diagonal, 8, 7, ... (largest real part first).
+  auto d = solve(*m, test::quiet_options(2, "block", "largest"));
+  ASSERT_TRUE(d.is_ok()) << d.status().message();
+  EXPECT_NEAR(d->eigenvalues[0], 8.0, 1e-7);
+  EXPECT_NEAR(d->eigenvalues[1], 7.0, 1e-7);
+}
+
+TEST(SolverApi, BudgetKeepsConvergedPairs) {
+  auto m = laplace1d(30);
+  auto o = test::quiet_options(4, "block", "largest");
+  o.max_matvecs = 40;
+  auto r = solve(m, o);
+  ASSERT_TRUE(r.is_ok()) << r.status().message();
+  EXPECT_LT(r->converged, 4);
+  EXPECT_GE(r->matvecs, 40);
+  EXPECT_EQ(r->pairs(), 4);  // converged pairs first, then the best approximations to the rest
+  for (std::int64_t j = 0; j < r->converged; ++j) EXPECT_LE(r->residual_norms[j], r->tolerance * r->norm_estimate);
+  for (std::int64_t j = r->converged; j < r->pairs(); ++j) EXPECT_GT(r->residual_norms[j], r->tolerance * r->norm_estimate);
+}
+
+TEST(SolverApi, SaveAndRestoreContinueToTheSameAnswer) {
+  for (const char* name : {"chebyshev", "block", "power"}) {
+    SCOPED_TRACE(name);
+    // Single-vector steps converge at the ratio of neighbouring eigenvalues: a shorter rod.
+    const std::int64_t n = std::string(name) == "power" ? 10 : 50;
+    auto m = laplace1d(n);
+    methods::Problem p;
+    p.symmetric = true;
+    p.selection = methods::Selection::largest;
+    p.pairs = std::string(name) == "power" ? 2 : 4;
+    p.tolerance = 1e-9;
+    p.norm_estimate = 4.0;
+    p.seed = 5;
+    const auto* info = methods::find_method(name);
+    ASSERT_NE(info, nullptr);
+    algebra::Operator op(m.petsc());
+    auto first = info->make();
+    ASSERT_TRUE(first->setup(op, p).is_ok());
+    for (int k = 0; k < 3 && first->converged() < p.pairs; ++k) ASSERT_TRUE(first->step().is_ok());
+    methods::MethodState state;
+    ASSERT_TRUE(first->save(state).is_ok());
+    first.reset();  // nothing of the first object survives but the saved state
+    auto second = info->make();
+    algebra::Operator op2(m.petsc());
+    ASSERT_TRUE(second->restore(op2, p, state).is_ok());
+    EXPECT_GE(second->iterations(), 1);
+    int guard = 0;
+    while (second->converged() < p.pairs && guard++ < 100000) ASSERT_TRUE(second->step().is_ok());
+    auto pairs = second->extract();
+    ASSERT_TRUE(pairs.is_ok()) << pairs.status().message();
+    EXPECT_EQ(pairs->converged, p.pairs);
+    for (int j = 0; j < p.pairs; ++j) EXPECT_NEAR(pairs->re[j], lap1(n, n - j), 1e-8) << "pair " << j;
+  }
+}
