@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <new>
 
 #include "io/atomic_output.hpp"
 #include "io/mm_entries.hpp"
@@ -218,7 +219,16 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
   out.n = n;
   out.file_entries = sum_all(comm, data_lines);
   out.symmetric = h.banner.symmetry == mm::Symmetry::symmetric;
-  out.rows = assemble_rows(even_split(n, rank, size), router.received());
+  // A tiny file can declare a huge size: running out of memory for this rank's
+  // row offsets is a refusal with a message, agreed by all ranks, not an abort.
+  Status memory;
+  try {
+    out.rows = assemble_rows(even_split(n, rank, size), router.received());
+  } catch (const std::bad_alloc&) {
+    memory = Status::input(fmt::format("{}: line {}: not enough memory for the rows of a {} x {} matrix on {} rank(s); "
+                                       "use more ranks", path, h.size_line, n, n, size));
+  }
+  LODESTONE_TRY(agree(comm, memory));
   if (sum_all(comm, out.rows.offsets.back()) == 0)
     return Status::input(fmt::format("{}: line {}: the matrix has no stored entries (an all-zero matrix has no "
                                      "dominant eigenpairs to find)", path, h.size_line));
