@@ -76,7 +76,12 @@ int main(int argc, char** argv) {
   for (auto& c : commands) {
     if (c.app->parsed()) {
       Status s = c.run(comm);
-      if (!s) cli::print_error_once(comm, s.message());
+      if (s.kind() == ErrorKind::stopped || s.kind() == ErrorKind::budget) {
+        // Not failures: the run kept its work and says how to go on.
+        if (comm_rank(comm) == 0) std::fprintf(stderr, "lodestone: %s\n", s.message().c_str());
+      } else if (!s) {
+        cli::print_error_once(comm, s.message());
+      }
       return s.exit_code();
     }
   }
