@@ -229,6 +229,9 @@ Result<DatasetShape> dataset_shape(hid_t dataset) {
 static Status transfer_block(hid_t dataset, hid_t mem_type, const std::vector<hsize_t>& start,
                              const std::vector<hsize_t>& count, void* buf, bool write) {
   Handle file_space(H5Dget_space(dataset));
+  // An empty dataset has nothing to move (and no storage for MPI-IO to touch);
+  // its size is the same on every rank, so every rank skips together.
+  if (H5Sget_simple_extent_npoints(file_space.get()) == 0) return Status::ok();
   hsize_t total = 1;
   for (auto c : count) total *= c;
   Handle mem_space(H5Screate_simple(1, &total, nullptr));

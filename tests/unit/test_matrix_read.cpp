@@ -115,3 +115,20 @@ TEST(MatrixRead, OutputNeverOverwritesInput) {
   EXPECT_NE(s.message().find("overwrite an input"), std::string::npos);
   EXPECT_TRUE(Matrix::load(comm, path).is_ok());
 }
+
+TEST(MatrixRead, AllZeroMatrixWritesAndReads) {
+  // No stored entries at all: empty datasets must be written and read without error.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 5;
+  io::CsrRows rows;
+  auto r = even_split(n, comm_rank(comm), comm_size(comm));
+  rows.row_begin = r.begin;
+  for (std::int64_t i = r.begin; i < r.end; ++i) rows.offsets.push_back(0);
+  std::string path = test::temp_path(comm, "zero.h5");
+  Status s = io::write_csr_file(comm, path, "/matrix", n, true, rows);
+  ASSERT_TRUE(s.is_ok()) << s.message();
+  auto m = Matrix::load(comm, path);
+  ASSERT_TRUE(m.is_ok()) << m.status().message();
+  EXPECT_EQ(m->info().nnz, 0);
+  EXPECT_EQ(m->info().rows, n);
+}
