@@ -22,32 +22,56 @@ bool same_file(const std::string& a, const std::string& b) {
   return fs::weakly_canonical(a, ec) == fs::weakly_canonical(b, ec);
 }
 
-static Status fsync_path(const std::string& path, bool directory) {
-  int fd = ::open(path.c_str(), directory ? O_RDONLY | O_DIRECTORY : O_RDONLY);
+std::string directory_of(const std::string& path) {
+  fs::path p(path);
+  return p.has_parent_path() ? p.parent_path().string() : std::string(".");
+}
+
+Status fsync_file(const std::string& path) {
+  int fd = ::open(path.c_str(), O_RDONLY);
   if (fd < 0) return Status::input(fmt::format("{}: cannot open for sync: {}", path, std::strerror(errno)));
   int rc = ::fsync(fd);
   int err = errno;
   ::close(fd);
-  if (rc != 0 && !directory) return Status::input(fmt::format("{}: fsync failed: {}", path, std::strerror(err)));
+  if (rc != 0) return Status::input(fmt::format("{}: fsync failed: {}", path, std::strerror(err)));
   return Status::ok();
 }
 
-Result<AtomicOutput> AtomicOutput::begin(MPI_Comm comm, const std::string& final_path,
-                                         const std::vector<std::string>& inputs) {
+void fsync_directory(const std::string& dir) {
+  int fd = ::open(dir.c_str(), O_RDONLY | O_DIRECTORY);
+  if (fd < 0) return;
+  ::fsync(fd);
+  ::close(fd);
+}
+
+void remove_on_rank0(MPI_Comm comm, const std::string& path) {
+  int finalized = 0, rank = 0;
+  MPI_Finalized(&finalized);
+  if (!finalized) MPI_Comm_rank(comm, &rank);
+  if (rank == 0) {
+    std::error_code ec;
+    fs::remove(path, ec);
+  }
+}
+
+Result<std::string> reserve_temporary(MPI_Comm comm, const std::string& final_path,
+                                      const std::vector<std::string>& inputs, const char* what,
+                                      const std::function<Status()>& prepare) {
   Status s;
   std::string temp;
   if (comm_rank(comm) == 0) {
-    fs::path p(final_path);
-    fs::path dir = p.has_parent_path() ? p.parent_path() : fs::path(".");
+    const fs::path p(final_path), dir(directory_of(final_path));
     std::error_code ec;
     for (const auto& in : inputs)
-      if (same_file(in, final_path)) s = Status::input(fmt::format("{}: the output would overwrite an input; choose another name", final_path));
+      if (s && same_file(in, final_path))
+        s = Status::input(fmt::format("{}: the {} would overwrite an input; choose another name", final_path, what));
     if (s && (p.filename().empty() || fs::is_directory(p, ec)))
-      s = Status::input(fmt::format("{}: output path is a directory", final_path));
+      s = Status::input(fmt::format("{}: {} path is a directory", final_path, what));
     if (s && !fs::is_directory(dir, ec))
       s = Status::input(fmt::format("{}: directory '{}' does not exist", final_path, dir.string()));
     if (s && ::access(dir.c_str(), W_OK) != 0)
       s = Status::input(fmt::format("{}: directory '{}' is not writable", final_path, dir.string()));
+    if (s && prepare) s = prepare();
     if (s) {
       std::random_device rd;
       temp = (dir / fmt::format(".{}.partial-{}-{:08x}", p.filename().string(), ::getpid(), rd())).string();
@@ -58,7 +82,14 @@ Result<AtomicOutput> AtomicOutput::begin(MPI_Comm comm, const std::string& final
   MPI_Bcast(&len, 1, MPI_INT, 0, comm);
   temp.resize(static_cast<std::size_t>(len));
   MPI_Bcast(temp.data(), len, MPI_CHAR, 0, comm);
-  return AtomicOutput(comm, final_path, temp);
+  return temp;
+}
+
+Result<AtomicOutput> AtomicOutput::begin(MPI_Comm comm, const std::string& final_path,
+                                         const std::vector<std::string>& inputs) {
+  auto temp = reserve_temporary(comm, final_path, inputs, "output");
+  if (!temp) return temp.status();
+  return AtomicOutput(comm, final_path, *temp);
 }
 
 AtomicOutput::AtomicOutput(AtomicOutput&& o) noexcept
@@ -67,28 +98,17 @@ AtomicOutput::AtomicOutput(AtomicOutput&& o) noexcept
 }
 
 AtomicOutput::~AtomicOutput() {
-  if (done_ || comm_ == MPI_COMM_NULL) return;
-  int finalized = 0;
-  MPI_Finalized(&finalized);
-  int rank = 0;
-  if (!finalized) MPI_Comm_rank(comm_, &rank);
-  if (rank == 0) {
-    std::error_code ec;
-    fs::remove(temp_, ec);
-  }
+  if (!done_ && comm_ != MPI_COMM_NULL) remove_on_rank0(comm_, temp_);
 }
 
 Status AtomicOutput::commit() {
   MPI_Barrier(comm_);
   Status s;
   if (comm_rank(comm_) == 0) {
-    s = fsync_path(temp_, false);
+    s = fsync_file(temp_);
     if (s && std::rename(temp_.c_str(), final_.c_str()) != 0)
       s = Status::input(fmt::format("{}: cannot rename the finished file into place: {}", final_, std::strerror(errno)));
-    if (s) {
-      fs::path dir = fs::path(final_).has_parent_path() ? fs::path(final_).parent_path() : fs::path(".");
-      fsync_path(dir.string(), true);
-    }
+    if (s) fsync_directory(directory_of(final_));
   }
   s = agree(comm_, s);
   done_ = s.is_ok();

@@ -9,6 +9,7 @@
 
 #include <mpi.h>
 
+#include <functional>
 #include <string>
 #include <vector>
 
@@ -42,5 +43,21 @@ class AtomicOutput {
 
 // True if a and b name the same existing file, or the same path.
 bool same_file(const std::string& a, const std::string& b);
+
+// Collective. On rank 0: checks that `final_path` may be written — it is none of
+// `inputs`, not a directory, and its directory exists and is writable — then runs
+// `prepare` (if given); all ranks agree on the outcome and on a fresh temporary
+// name beside the final one. `what` names the file in messages ("output", ...).
+Result<std::string> reserve_temporary(MPI_Comm comm, const std::string& final_path,
+                                      const std::vector<std::string>& inputs, const char* what,
+                                      const std::function<Status()>& prepare = {});
+
+// The directory a path lives in ("." for a bare name).
+std::string directory_of(const std::string& path);
+Status fsync_file(const std::string& path);
+// Best effort: some file systems refuse to sync a directory.
+void fsync_directory(const std::string& dir);
+// Rank 0 removes `path` (for abandoned temporaries; safe after MPI_Finalize).
+void remove_on_rank0(MPI_Comm comm, const std::string& path);
 
 }  // namespace lodestone::io

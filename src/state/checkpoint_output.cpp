@@ -1,7 +1,6 @@
 // Temporary name, fsync, keep the previous generation, rename (state/checkpoint_output.hpp).
 #include "state/checkpoint_output.hpp"
 
-#include <fcntl.h>
 #include <fmt/format.h>
 #include <unistd.h>
 
@@ -9,7 +8,6 @@
 #include <cstdio>
 #include <cstring>
 #include <filesystem>
-#include <random>
 
 #include "io/atomic_output.hpp"
 #include "lodestone/checkpoint.hpp"
@@ -19,29 +17,11 @@ namespace fs = std::filesystem;
 
 namespace lodestone::ckpt {
 
+using io::directory_of;
+using io::fsync_directory;
+using io::fsync_file;
+
 namespace {
-
-fs::path directory_of(const std::string& path) {
-  fs::path p(path);
-  return p.has_parent_path() ? p.parent_path() : fs::path(".");
-}
-
-Status fsync_file(const std::string& path) {
-  int fd = ::open(path.c_str(), O_RDONLY);
-  if (fd < 0) return Status::input(fmt::format("{}: cannot open for sync: {}", path, std::strerror(errno)));
-  int rc = ::fsync(fd);
-  int err = errno;
-  ::close(fd);
-  if (rc != 0) return Status::input(fmt::format("{}: fsync failed: {}", path, std::strerror(err)));
-  return Status::ok();
-}
-
-void fsync_directory(const fs::path& dir) {
-  int fd = ::open(dir.c_str(), O_RDONLY | O_DIRECTORY);
-  if (fd < 0) return;
-  ::fsync(fd);  // some file systems refuse to sync a directory; the renames still happened
-  ::close(fd);
-}
 
 // Removes temporaries that writers of `final_path` killed mid-write left behind.
 void remove_stale_temporaries(const std::string& final_path) {
@@ -62,32 +42,16 @@ void remove_stale_temporaries(const std::string& final_path) {
 
 Result<GenerationalOutput> GenerationalOutput::begin(MPI_Comm comm, const std::string& final_path,
                                                      const std::vector<std::string>& inputs) {
-  Status s;
-  std::string temp;
-  if (comm_rank(comm) == 0) {
-    const fs::path p(final_path), dir = directory_of(final_path);
-    std::error_code ec;
+  auto temp = io::reserve_temporary(comm, final_path, inputs, "checkpoint", [&]() -> Status {
+    const std::string previous = previous_checkpoint_path(final_path);
     for (const auto& in : inputs)
-      if (io::same_file(in, final_path) || io::same_file(in, previous_checkpoint_path(final_path)))
-        s = Status::input(fmt::format("{}: the checkpoint would overwrite an input; choose another name", final_path));
-    if (s && (p.filename().empty() || fs::is_directory(p, ec)))
-      s = Status::input(fmt::format("{}: checkpoint path is a directory", final_path));
-    if (s && !fs::is_directory(dir, ec))
-      s = Status::input(fmt::format("{}: directory '{}' does not exist", final_path, dir.string()));
-    if (s && ::access(dir.c_str(), W_OK) != 0)
-      s = Status::input(fmt::format("{}: directory '{}' is not writable", final_path, dir.string()));
-    if (s) {
-      remove_stale_temporaries(final_path);
-      std::random_device rd;
-      temp = (dir / fmt::format(".{}.partial-{}-{:08x}", p.filename().string(), ::getpid(), rd())).string();
-    }
-  }
-  LODESTONE_TRY(agree(comm, s));
-  int len = static_cast<int>(temp.size());
-  MPI_Bcast(&len, 1, MPI_INT, 0, comm);
-  temp.resize(static_cast<std::size_t>(len));
-  MPI_Bcast(temp.data(), len, MPI_CHAR, 0, comm);
-  return GenerationalOutput(comm, final_path, temp);
+      if (io::same_file(in, previous))
+        return Status::input(fmt::format("{}: the checkpoint would overwrite an input; choose another name", final_path));
+    remove_stale_temporaries(final_path);
+    return Status::ok();
+  });
+  if (!temp) return temp.status();
+  return GenerationalOutput(comm, final_path, *temp);
 }
 
 GenerationalOutput::GenerationalOutput(GenerationalOutput&& o) noexcept
@@ -96,14 +60,7 @@ GenerationalOutput::GenerationalOutput(GenerationalOutput&& o) noexcept
 }
 
 GenerationalOutput::~GenerationalOutput() {
-  if (done_ || comm_ == MPI_COMM_NULL) return;
-  int finalized = 0, rank = 0;
-  MPI_Finalized(&finalized);
-  if (!finalized) MPI_Comm_rank(comm_, &rank);
-  if (rank == 0) {
-    std::error_code ec;
-    fs::remove(temp_, ec);
-  }
+  if (!done_ && comm_ != MPI_COMM_NULL) io::remove_on_rank0(comm_, temp_);
 }
 
 Status GenerationalOutput::commit() {
@@ -114,7 +71,7 @@ Status GenerationalOutput::commit() {
     const std::string previous = previous_checkpoint_path(final_);
     std::error_code ec;
     if (s && fs::exists(final_, ec)) {
-      const fs::path dir = directory_of(final_);
+      const fs::path dir(directory_of(final_));
       const std::string link = (dir / fmt::format(".{}.previous-link-{}", fs::path(final_).filename().string(),
                                                   ::getpid()))
                                    .string();
