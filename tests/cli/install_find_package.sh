@@ -15,6 +15,6 @@ cmake --build "$tmp/consumer" -j 2 >/dev/null
 for p in 1 2; do
   out=$(timeout 120 mpirun --allow-run-as-root --oversubscribe -n "$p" "$tmp/consumer/consumer")
   echo "$out"
-  grep -q "nnz=148 .* ok" <<<"$out"
+  grep -q "nnz=148 .*: ok" <<<"$out"
 done
 "$tmp/prefix/bin/lodestone" --version
