@@ -50,12 +50,13 @@ int main(int argc, char** argv) {
   app.require_subcommand(1);
   app.set_version_flag("--version", "lodestone 0.1.0");
   std::vector<cli::Command> commands = {
+      // In the order of the pipeline: get a matrix, look at it, solve, check, plan.
+      cli::make_import_command(app),
       cli::make_generate_command(app),
       cli::make_inspect_command(app),
-      cli::make_import_command(app),
-      cli::make_plan_command(app),
       cli::make_solve_command(app),
       cli::make_verify_command(app),
+      cli::make_plan_command(app),
   };
   try {
     app.parse(static_cast<int>(ours.size()), ours.data());
