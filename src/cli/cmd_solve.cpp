@@ -4,6 +4,7 @@
 #include <limits>
 
 #include "cli/command.hpp"
+#include "io/atomic_output.hpp"
 #include "lodestone/result.hpp"
 #include "lodestone/solver.hpp"
 #include "state/duration.hpp"
@@ -92,6 +93,12 @@ Command make_solve_command(CLI::App& root) {
             }
             plan.inputs = {args->matrix};
             if (!args->out.empty()) plan.inputs.push_back(args->out);
+            // Refuse an output that cannot be written before any work is done
+            // (nothing is created here: the results are written atomically later).
+            if (!args->out.empty()) {
+              auto writable = io::reserve_temporary(comm, args->out, {args->matrix}, "output");
+              if (!writable) return writable.status();
+            }
             LoadOptions load;
             load.group = args->group;
             auto m = Matrix::load(comm, args->matrix, load);
