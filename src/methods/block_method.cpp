@@ -23,23 +23,15 @@ class BlockMethod final : public SubspaceMethod {
 
   Status setup(algebra::Operator& op, const Problem& problem) override {
     LODESTONE_TRY(init(op, problem));
-    PetscInt n = 0;
-    MatGetSize(op.mat(), &n, nullptr);
-    int b = problem.block_size > 0 ? problem.block_size : problem.pairs + std::max(2, (problem.pairs + 1) / 2);
-    b = static_cast<int>(std::min<PetscInt>(b, n));
-    guard_ = std::max(0, b - problem.pairs);
-    LODESTONE_TRY(resize_active(b));
-    LODESTONE_TRY(randomize(0));
-    LODESTONE_TRY(agree(comm_, product()));
-    LODESTONE_TRY(rayleigh_ritz());
+    const int p = problem.pairs;
+    LODESTONE_TRY(start_block(problem.block_size > 0 ? problem.block_size : p + std::max(2, (p + 1) / 2)));
     return lock_converged();
   }
 
   Status step() override {
     if (wanted_left() == 0) return Status::ok();
     if (active_ == 0) {
-      LODESTONE_TRY(resize_active(std::max(1, wanted_left() + guard_)));
-      LODESTONE_TRY(randomize(0));
+      LODESTONE_TRY(restart_block());
     } else {
       // X <- (A - sigma I)^s X. Between Rayleigh-Ritz steps the columns are only
       // scaled by the dominant Ritz value, so each extra step costs one pass over the
@@ -54,9 +46,9 @@ class BlockMethod final : public SubspaceMethod {
       }
       algebra::combine(x_, -sigma_, w_, 1.0);
       LODESTONE_TRY(orthonormalize_active());
+      LODESTONE_TRY(agree(comm_, product()));
+      LODESTONE_TRY(rayleigh_ritz());
     }
-    LODESTONE_TRY(agree(comm_, product()));
-    LODESTONE_TRY(rayleigh_ritz());
     ++iterations_;
     return lock_converged();
   }
@@ -81,8 +73,6 @@ class BlockMethod final : public SubspaceMethod {
     guard_ = g.empty() ? 2 : static_cast<int>(g[0]);
     return Status::ok();
   }
-
-  int guard_ = 2;
 };
 
 }  // namespace

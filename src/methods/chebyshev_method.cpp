@@ -40,27 +40,15 @@ class ChebyshevMethod final : public SubspaceMethod {
     auto bounds = lanczos_bounds(op, kLanczosSteps, problem.seed, 1u << 30, problem.norm_estimate);
     if (!bounds) return bounds.status();
     bounds_ = *bounds;
-    PetscInt n = 0;
-    MatGetSize(op.mat(), &n, nullptr);
-    int b = problem.block_size > 0 ? problem.block_size : problem.pairs + std::max(4, problem.pairs / 2);
-    b = static_cast<int>(std::min<PetscInt>(b, n));
-    guard_ = std::max(0, b - problem.pairs);
-    LODESTONE_TRY(resize_active(b));
-    LODESTONE_TRY(randomize(0));
-    LODESTONE_TRY(agree(comm_, product()));
-    LODESTONE_TRY(rayleigh_ritz());
+    const int p = problem.pairs;
+    LODESTONE_TRY(start_block(problem.block_size > 0 ? problem.block_size : p + std::max(4, p / 2)));
     degree_ = kStartDegree;
     return lock_converged();
   }
 
   Status step() override {
     if (wanted_left() == 0) return Status::ok();
-    if (active_ == 0) {
-      LODESTONE_TRY(resize_active(std::max(1, wanted_left() + guard_)));
-      LODESTONE_TRY(randomize(0));
-      LODESTONE_TRY(agree(comm_, product()));
-      LODESTONE_TRY(rayleigh_ritz());
-    }
+    if (active_ == 0) LODESTONE_TRY(restart_block());
     LODESTONE_TRY(filter());
     LODESTONE_TRY(orthonormalize_active());
     LODESTONE_TRY(agree(comm_, product()));
@@ -177,7 +165,6 @@ class ChebyshevMethod final : public SubspaceMethod {
 
   SpectrumBounds bounds_;
   int degree_ = kStartDegree;
-  int guard_ = 4;
   algebra::Block f1_, z_;
 };
 

@@ -26,10 +26,7 @@ class PowerMethod final : public SubspaceMethod {
 
   Status setup(algebra::Operator& op, const Problem& problem) override {
     LODESTONE_TRY(init(op, problem));
-    LODESTONE_TRY(resize_active(1));
-    LODESTONE_TRY(randomize(0));
-    LODESTONE_TRY(agree(comm_, product()));
-    LODESTONE_TRY(rayleigh_ritz());
+    LODESTONE_TRY(start_block(1));
     return lock_if_converged();
   }
 

@@ -51,6 +51,24 @@ Status SubspaceMethod::init(algebra::Operator& op, const Problem& problem) {
   return Status::ok();
 }
 
+Status SubspaceMethod::start_block(int width) {
+  PetscInt n = 0;
+  MatGetSize(op_->mat(), &n, nullptr);
+  const int b = static_cast<int>(std::min<PetscInt>(width, n));
+  guard_ = std::max(0, b - problem_.pairs);
+  LODESTONE_TRY(resize_active(b));
+  LODESTONE_TRY(randomize(0));
+  LODESTONE_TRY(agree(comm_, product()));
+  return rayleigh_ritz();
+}
+
+Status SubspaceMethod::restart_block() {
+  LODESTONE_TRY(resize_active(std::max(1, wanted_left() + guard_)));
+  LODESTONE_TRY(randomize(0));
+  LODESTONE_TRY(agree(comm_, product()));
+  return rayleigh_ritz();
+}
+
 Status SubspaceMethod::resize_active(int cols) {
   auto x = Block::like(op_->mat(), cols);
   if (!x) return x.status();

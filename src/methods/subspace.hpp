@@ -32,6 +32,12 @@ class SubspaceMethod : public Method {
   double power_shift() const { return sigma_; }
 
   Status init(algebra::Operator& op, const Problem& problem);
+  // Starts the active block: `width` columns (at most n; the columns beyond K are
+  // the guard), random and orthonormal, with one product and Rayleigh-Ritz.
+  Status start_block(int width);
+  // After locking emptied the active block while pairs are still wanted: a fresh
+  // random block of the remaining pairs plus the guard, one product, Rayleigh-Ritz.
+  Status restart_block();
   // (Re)creates X and W with `cols` columns (contents lost).
   Status resize_active(int cols);
   // Random start columns [c0, cols) orthogonal to the locked set, then X orthonormalized.
@@ -67,6 +73,8 @@ class SubspaceMethod : public Method {
   std::vector<double> ritz_re_, ritz_im_, ritz_res_;
   algebra::Small t_act_;   // projected active matrix in Ritz/Schur basis
   algebra::Small c_act_;   // Q^T A X (non-symmetric coupling), locked_ x active_
+
+  int guard_ = 0;   // active columns beyond the pairs still wanted
 
   std::int64_t iterations_ = 0;
   std::uint64_t stream_ = 1;  // next random stream (start vectors are hashed from seed, row, stream)
