@@ -3,16 +3,8 @@
 # back to back are SIGKILLed at random instants, many times; every time the
 # checkpoint name must open and read back consistently (every value and the
 # driver's own checksum), on a different rank count than wrote it.
-set -euo pipefail
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 DRIVER="$LODESTONE_BUILD/tests/checkpoint_kill_driver"
-MPI=(mpirun --allow-run-as-root --oversubscribe)
-work=$(mktemp -d)
-bg=""
-cleanup() {
-  if [[ -n "$bg" ]] && kill -0 "$bg" 2>/dev/null; then kill -KILL "$bg" 2>/dev/null || true; fi
-  rm -rf "$work"
-}
-trap cleanup EXIT
 
 ckpt="$work/kill.ckpt.h5"
 rows=131072   # x 3 columns x 8 bytes: about 3 MB per checkpoint

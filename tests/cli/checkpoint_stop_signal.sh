@@ -2,16 +2,8 @@
 # Stopping on a signal: a SIGUSR1, SIGUSR2 or SIGTERM sent to one rank only is
 # agreed by all ranks at the next boundary (exit 3); SIGUSR1 sent to mpirun is
 # forwarded to the ranks; a second SIGINT ends a rank at once with status 130.
-set -euo pipefail
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 DRIVER="$LODESTONE_BUILD/tests/checkpoint_kill_driver"
-MPI=(mpirun --allow-run-as-root --oversubscribe)
-work=$(mktemp -d)
-bg=""
-cleanup() {
-  if [[ -n "$bg" ]] && kill -0 "$bg" 2>/dev/null; then kill -KILL "$bg" 2>/dev/null || true; fi
-  rm -rf "$work"
-}
-trap cleanup EXIT
 
 start() {  # start the driver on 3 ranks and wait (bounded) until it is ready
   timeout 60 "${MPI[@]}" -n 3 "$DRIVER" stop-wait "$@" >"$work/out" 2>&1 &

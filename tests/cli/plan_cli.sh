@@ -3,15 +3,10 @@
 # 1 and 3 planner ranks, malformed options (exit 2), unreadable input (exit 1),
 # a request that does not fit (exit 1, no script), and scripts that pass bash -n
 # and shellcheck.
-set -euo pipefail
-: "${LODESTONE:?}"
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-run() { timeout 120 mpirun --allow-run-as-root --oversubscribe -n "$1" "${@:2}"; }
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 # One planner rank needs no mpirun (MPI starts as a singleton): faster.
 one() { timeout 120 "$@"; }
-fail() { echo "FAIL: $*" >&2; exit 1; }
-cd "$tmp"
+cd "$work"
 
 run 2 "$LODESTONE" generate laplace2d --nx 300 --ny 200 plate.h5 >/dev/null
 

@@ -8,18 +8,13 @@
 # and a forwarded USR1 lead to the documented actions.
 # The hostile values below are single-quoted on purpose: they must stay literal.
 # shellcheck disable=SC2016
-set -euo pipefail
-: "${LODESTONE:?}"
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-run() { timeout 120 mpirun --allow-run-as-root --oversubscribe -n "$1" "${@:2}"; }
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 # One planner rank needs no mpirun (MPI starts as a singleton): faster.
 one() { timeout 120 "$@"; }
-fail() { echo "FAIL: $*" >&2; exit 1; }
-cd "$tmp"
+cd "$work"
 marker_check() {
   for m in PWNED1 PWNED2 PWNED3 PWNED4; do
-    [ ! -e "$tmp/$m" ] || fail "injected command ran ($m exists) $1"
+    [ ! -e "$work/$m" ] || fail "injected command ran ($m exists) $1"
   done
 }
 
@@ -75,13 +70,13 @@ for cmd in scontrol qsub; do
   printf '#!/usr/bin/env bash\nprintf "%%s\\n" "$@" > "$STUB_DIR/%s.args"\necho 4242.server\n' "$cmd" > "bin/$cmd"
 done
 chmod +x bin/*
-export STUB_DIR="$tmp"
-export SLURM_JOB_ID=77 PBS_JOBID=88.server PBS_O_WORKDIR="$tmp"
+export STUB_DIR="$work"
+export SLURM_JOB_ID=77 PBS_JOBID=88.server PBS_O_WORKDIR="$work"
 
 for s in slurm pbs local; do
   script="$outdir/job \$(touch PWNED1).$s"
   one "$LODESTONE" plan "$evil" "${common[@]}" --scheduler "$s" --job-name evil-test --out "$script" \
-    --checkpoint "ck \`touch PWNED2\`.h5" --result "res; touch PWNED3.h5" --lodestone "$tmp/lode stone" >/dev/null
+    --checkpoint "ck \`touch PWNED2\`.h5" --result "res; touch PWNED3.h5" --lodestone "$work/lode stone" >/dev/null
   bash -n "$script" || fail "bash -n $s"
   shellcheck -s bash "$script" || fail "shellcheck $s"
   marker_check "after writing the $s script"
@@ -89,7 +84,7 @@ for s in slurm pbs local; do
   # Status 0: finished, nothing resubmitted.
   rm -f ./*.args
   set +e
-  STUB_STATUS=0 PATH="$tmp/bin:$PATH" timeout 30 bash "$script" >run.out 2>&1
+  STUB_STATUS=0 PATH="$work/bin:$PATH" timeout 30 bash "$script" >run.out 2>&1
   rc=$?
   set -e
   [ "$rc" -eq 0 ] || { cat run.out; fail "$s status 0: script exited $rc"; }
@@ -97,13 +92,13 @@ for s in slurm pbs local; do
   grep -qxF -- "$evil" mpirun.args || { cat mpirun.args; fail "$s: matrix path did not arrive intact"; }
   grep -qxF -- "ck \`touch PWNED2\`.h5" mpirun.args || fail "$s: checkpoint path did not arrive intact"
   grep -qxF -- "res; touch PWNED3.h5" mpirun.args || fail "$s: result path did not arrive intact"
-  grep -qxF -- "$tmp/lode stone" mpirun.args || fail "$s: lodestone path did not arrive intact"
+  grep -qxF -- "$work/lode stone" mpirun.args || fail "$s: lodestone path did not arrive intact"
   grep -qxF -- "--resume" mpirun.args || fail "$s: no --resume"
   if [ -e scontrol.args ] || [ -e qsub.args ]; then fail "$s status 0: something was resubmitted"; fi
 
   # Status 3: requeue (Slurm) or chain the next job (PBS); local asks to run again.
   set +e
-  STUB_STATUS=3 PATH="$tmp/bin:$PATH" timeout 30 bash "$script" >run.out 2>&1
+  STUB_STATUS=3 PATH="$work/bin:$PATH" timeout 30 bash "$script" >run.out 2>&1
   rc=$?
   set -e
   marker_check "running the $s script with status 3"
@@ -123,7 +118,7 @@ for s in slurm pbs local; do
   # Status 1: stop and say why; nothing resubmitted.
   rm -f scontrol.args qsub.args
   set +e
-  STUB_STATUS=1 PATH="$tmp/bin:$PATH" timeout 30 bash "$script" >run.out 2>&1
+  STUB_STATUS=1 PATH="$work/bin:$PATH" timeout 30 bash "$script" >run.out 2>&1
   rc=$?
   set -e
   [ "$rc" -eq 1 ] || fail "$s status 1: exit $rc"
@@ -135,7 +130,7 @@ done
 rm -f mpirun.ready mpirun.usr1 scontrol.args
 script="$outdir/job \$(touch PWNED1).slurm"
 # (No timeout wrapper here: the signal must reach bash itself; the stand-in ends by itself within 10 s.)
-STUB_WAIT_FOR_USR1=1 PATH="$tmp/bin:$PATH" bash "$script" >run.out 2>&1 &
+STUB_WAIT_FOR_USR1=1 PATH="$work/bin:$PATH" bash "$script" >run.out 2>&1 &
 pid=$!
 for _ in $(seq 1 100); do [ -e mpirun.ready ] && break; sleep 0.05; done
 [ -e mpirun.ready ] || fail "the stand-in solver did not start"

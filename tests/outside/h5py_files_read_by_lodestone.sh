@@ -8,17 +8,11 @@
 #    the same fingerprint both ways (catches a transposed read, which the
 #    symmetric Laplacian cannot);
 # each at 1 and 3 ranks.
-set -euo pipefail
-: "${LODESTONE:?path to the lodestone binary}"
-: "${LODESTONE_SOURCE:?source tree}"
-PY="${LODESTONE_PYTHON:-/usr/bin/python3}"  # Debian's Python, which has h5py and scipy
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 ref="$LODESTONE_SOURCE/tests/outside/reference.py"
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-run() { timeout 60 mpirun --allow-run-as-root --oversubscribe "$@"; }
 fingerprint() {  # ranks file
   local out
-  out="$(run -n "$1" "$LODESTONE" inspect --check "$2")"
+  out="$(run "$1" "$LODESTONE" inspect --check "$2")"
   echo "$out" | awk '/^fingerprint/ {print $2}'
 }
 fail=0
@@ -27,21 +21,21 @@ same() {  # what a b
 }
 
 nx=11 ny=7
-run -n 2 "$LODESTONE" generate laplace2d --nx $nx --ny $ny "$tmp/lodestone.h5" >/dev/null
-"$PY" "$ref" write-laplace2d "$tmp/scipy-csr.h5" $nx $ny csr
-"$PY" "$ref" write-laplace2d "$tmp/scipy-dense.h5" $nx $ny dense
-"$PY" "$ref" write-random "$tmp/random-csr.h5" 13 5 csr
-"$PY" "$ref" write-random "$tmp/random-dense.h5" 13 5 dense
+run "2" "$LODESTONE" generate laplace2d --nx $nx --ny $ny "$work/lodestone.h5" >/dev/null
+"$PY" "$ref" write-laplace2d "$work/scipy-csr.h5" $nx $ny csr
+"$PY" "$ref" write-laplace2d "$work/scipy-dense.h5" $nx $ny dense
+"$PY" "$ref" write-random "$work/random-csr.h5" 13 5 csr
+"$PY" "$ref" write-random "$work/random-dense.h5" 13 5 dense
 
 for p in 1 3; do
-  mine="$(fingerprint $p "$tmp/lodestone.h5")"
-  same "$p ranks: h5py CSR Laplacian = lodestone generate laplace2d" "$(fingerprint $p "$tmp/scipy-csr.h5")" "$mine"
-  same "$p ranks: h5py dense Laplacian = lodestone generate laplace2d" "$(fingerprint $p "$tmp/scipy-dense.h5")" "$mine"
-  same "$p ranks: h5py random CSR = h5py random dense" "$(fingerprint $p "$tmp/random-csr.h5")" \
-    "$(fingerprint $p "$tmp/random-dense.h5")"
+  mine="$(fingerprint $p "$work/lodestone.h5")"
+  same "$p ranks: h5py CSR Laplacian = lodestone generate laplace2d" "$(fingerprint $p "$work/scipy-csr.h5")" "$mine"
+  same "$p ranks: h5py dense Laplacian = lodestone generate laplace2d" "$(fingerprint $p "$work/scipy-dense.h5")" "$mine"
+  same "$p ranks: h5py random CSR = h5py random dense" "$(fingerprint $p "$work/random-csr.h5")" \
+    "$(fingerprint $p "$work/random-dense.h5")"
 done
 # The summary of the h5py file agrees with SciPy's count: 5*nx*ny - 2*nx - 2*ny
 # entries for the 5-point stencil (closed form, common practice).
-nnz="$(run -n 2 "$LODESTONE" inspect "$tmp/scipy-csr.h5" | awk '/^nonzeros/ {print $2}')"
+nnz="$(run "2" "$LODESTONE" inspect "$work/scipy-csr.h5" | awk '/^nonzeros/ {print $2}')"
 same "nonzeros of the h5py file" "$nnz" "$((5 * nx * ny - 2 * nx - 2 * ny))"
 exit $fail

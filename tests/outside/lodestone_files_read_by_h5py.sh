@@ -3,22 +3,16 @@
 # correctly by h5py (Debian python3-h5py) — entries equal to the 5-point
 # Laplacian built with SciPy (scipy.sparse) — and by h5dump (Debian hdf5-tools),
 # whose text output we parse for the group attributes and the row offsets.
-set -euo pipefail
-: "${LODESTONE:?path to the lodestone binary}"
-: "${LODESTONE_SOURCE:?source tree}"
-PY="${LODESTONE_PYTHON:-/usr/bin/python3}"  # Debian's Python, which has h5py and scipy
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 ref="$LODESTONE_SOURCE/tests/outside/reference.py"
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-run() { timeout 60 mpirun --allow-run-as-root --oversubscribe "$@"; }
 fail=0
 same() {  # what got want
   if [ -n "$2" ] && [ "$2" = "$3" ]; then echo "ok: $1 ($2)"; else echo "FAIL: $1: '$2', expected '$3'"; fail=1; fi
 }
 
 nx=9 ny=6 n=54
-f="$tmp/plate.h5"
-run -n 3 "$LODESTONE" generate laplace2d --nx $nx --ny $ny "$f" >/dev/null
+f="$work/plate.h5"
+run "3" "$LODESTONE" generate laplace2d --nx $nx --ny $ny "$f" >/dev/null
 
 # h5py + SciPy.
 "$PY" "$ref" check-laplace2d "$f" $nx $ny || fail=1

@@ -3,12 +3,7 @@
 # same fingerprint on 1, 2, 3 and 4 ranks (every kind is also checked on
 # sub-communicators in tests/unit/test_generators.cpp), and each kind's output, read with h5py, passes checks against closed forms and
 # LAPACK through numpy (mm_generators_lapack.py names each reference).
-set -euo pipefail
-: "${LODESTONE:?}" "${LODESTONE_SOURCE:?}"
-py=/usr/bin/python3  # Debian's interpreter, which has numpy, scipy and h5py
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-run() { local p="$1"; shift; timeout 120 mpirun --allow-run-as-root --oversubscribe -n "$p" "$LODESTONE" "$@"; }
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 
 declare -A kinds=(
   [laplace2d]="laplace2d --nx 7 --ny 5"
@@ -22,10 +17,10 @@ for name in "${!kinds[@]}"; do
   counts="1 2 3 4"
   case "$name" in laplace2d | dense_linear) counts=3 ;; esac
   for p in $counts; do
-    out="$tmp/$name.np$p.h5"
+    out="$work/$name.np$p.h5"
     # shellcheck disable=SC2086
-    run "$p" generate ${kinds[$name]} "$out" > /dev/null
-    fp="$(run "$p" inspect --check "$out" | awk '/^fingerprint/ {print $2}')"
+    run "$p" "$LODESTONE" generate ${kinds[$name]} "$out" > /dev/null
+    fp="$(run "$p" "$LODESTONE" inspect --check "$out" | awk '/^fingerprint/ {print $2}')"
     [ -n "$fp" ] || { echo "FAIL: no fingerprint for $name at $p ranks"; exit 1; }
     prints+=("$fp")
   done
@@ -33,7 +28,7 @@ for name in "${!kinds[@]}"; do
   for fp in "${prints[@]}"; do
     [ "$fp" = "${prints[0]}" ] || { echo "FAIL: $name fingerprint differs across rank counts"; exit 1; }
   done
-  cp "$tmp/$name.np3.h5" "$tmp/$name.h5"
+  cp "$work/$name.np3.h5" "$work/$name.h5"
 done
-"$py" "$LODESTONE_SOURCE/tests/outside/mm_generators_lapack.py" "$tmp"
+"$PY" "$LODESTONE_SOURCE/tests/outside/mm_generators_lapack.py" "$work"
 echo "mm_generators_lapack: ok"
