@@ -210,7 +210,7 @@ def write_matrix(path, a, group=DEFAULT_GROUP, symmetric=None, layout=None, dtyp
     atomic_write(path, write, inputs)
     nnz = int(m.nnz) if layout == "csr" else int(np.count_nonzero(values))
     return {"path": path, "group": group, "layout": layout, "rows": rows, "cols": cols, "nonzeros": nnz,
-            "symmetric": symmetric, "fingerprint": fingerprint_hex(fingerprint(stored))}
+            "symmetric": symmetric, "fingerprint": fingerprint(stored)}
 
 
 def read_matrix(path, group=DEFAULT_GROUP):
@@ -297,9 +297,16 @@ def _mix64(x):
 
 
 def fingerprint(a):
-    """Lodestone's 64-bit matrix fingerprint (README "The fingerprint"): the sum
-    modulo 2^64 of a hash of every nonzero (row, column, value), mixed with the
-    size. Independent of storage order and of dense or CSR storage."""
+    """Lodestone's 64-bit matrix fingerprint (README "The fingerprint") of a
+    scipy.sparse matrix or 2-D numpy array, as the 16 hexadecimal digits that
+    `lodestone inspect --check` prints and results files store: the sum modulo
+    2^64 of a hash of every nonzero (row, column, value), mixed with the size.
+    Independent of storage order and of dense or CSR storage."""
+    return f"{fingerprint_value(a):016x}"
+
+
+def fingerprint_value(a):
+    """The fingerprint as an unsigned 64-bit integer."""
     import scipy.sparse as sp
 
     rows, cols = a.shape
@@ -315,10 +322,6 @@ def fingerprint(a):
         size = np.array([(rows * 31 + cols) & _M64], dtype=np.uint64)
         final = _mix64(np.array([total], dtype=np.uint64) ^ _mix64(size))
     return int(final[0])
-
-
-def fingerprint_hex(value):
-    return f"{value:016x}"
 
 
 # ---------------------------------------------------------------- results
