@@ -84,7 +84,8 @@ refuse "NaN" matrix nan.npy nope.h5
 refuse "name one with --key" matrix two.npz nope.h5
 refuse "unknown kind of file" matrix rod.out nope.h5
 [ ! -e nope.h5 ] || fail "a refused conversion wrote its output"
-ls -A | grep -q '\.tmp$' && fail "temporary files left behind: $(ls -A | grep '\.tmp$')"
+leftovers=$(compgen -G '.*.tmp' || true)
+[ -z "$leftovers" ] || fail "temporary files left behind: $leftovers"
 rc=0; timeout 60 "$helper" matrix --bogus rod.npz x.h5 >/dev/null 2>&1 || rc=$?
 [ "$rc" = 2 ] || fail "usage error: exit $rc, expected 2"
 echo "to_lodestone_write: all checks passed"
