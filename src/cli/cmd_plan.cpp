@@ -80,7 +80,7 @@ Command make_plan_command(CLI::App& root) {
   app->footer(
       "Sizes take K, M, G, T (powers of 1024). The summary explains every number; with --out the\n"
       "same summary heads the script. Exit status: 0 planned, 1 unreadable matrix or the run does\n"
-      "not fit, 2 malformed options.\n"
+      "not fit, 2 malformed options.\n\n"
       "Examples:\n"
       "  lodestone plan bridge.h5 --pairs 6 --scheduler slurm --cores-per-node 64 --node-memory 256G \\\n"
       "      --max-walltime 12:00:00 --account structures --out bridge.slurm\n"

@@ -73,7 +73,7 @@ Command make_solve_command(CLI::App& root) {
       "Exit status: 0 all K pairs converged, 1 input or runtime error, 2 usage error,\n"
       "3 stopped early by SIGTERM/SIGINT/SIGUSR1/SIGUSR2 or --time-budget (resume with --resume),\n"
       "4 matvec budget exhausted (the results file holds the converged pairs).\n"
-      "PETSc options (e.g. -log_view) go after a lone --petsc.\n"
+      "PETSc options (e.g. -log_view) go after a lone --petsc.\n\n"
       "Examples:\n"
       "  lodestone solve plate.h5 --pairs 8 --select largest --out modes.h5\n"
       "  mpirun -n 4 lodestone solve chain.h5 --pairs 4 --method block --out chain-modes.h5");

@@ -58,6 +58,13 @@ int main(int argc, char** argv) {
       cli::make_verify_command(app),
       cli::make_plan_command(app),
   };
+  // Set after the subcommands, which would otherwise inherit it.
+  app.footer(
+      "Run 'lodestone SUBCOMMAND --help' for the options of each; man pages: lodestone-SUBCOMMAND(1).\n\n"
+      "Examples:\n"
+      "  mpirun -n 2 lodestone generate laplace2d --nx 400 --ny 290 plate.h5\n"
+      "  mpirun -n 2 lodestone solve plate.h5 --pairs 8 --select largest --out plate-modes.h5\n"
+      "  mpirun -n 2 lodestone verify plate.h5 plate-modes.h5");
   try {
     app.parse(static_cast<int>(ours.size()), ours.data());
   } catch (const CLI::CallForHelp& e) {
