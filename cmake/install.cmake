@@ -1,5 +1,5 @@
 # Installing Lodestone like other HPC libraries: the `lodestone` binary, the
-# library, the public headers, a CMake package (find_package(Lodestone)) and a
+# library, the public headers, the Python helper (to-lodestone), a CMake package (find_package(Lodestone)) and a
 # pkg-config file.
 include(CMakePackageConfigHelpers)
 
@@ -7,6 +7,9 @@ install(TARGETS lodestone_lib EXPORT LodestoneTargets
   ARCHIVE DESTINATION ${CMAKE_INSTALL_LIBDIR}
   LIBRARY DESTINATION ${CMAKE_INSTALL_LIBDIR})
 install(TARGETS lodestone RUNTIME DESTINATION ${CMAKE_INSTALL_BINDIR})
+# The Python users' helper: the command in bin, its importable module under share.
+install(PROGRAMS ${PROJECT_SOURCE_DIR}/scripts/to-lodestone DESTINATION ${CMAKE_INSTALL_BINDIR})
+install(FILES ${PROJECT_SOURCE_DIR}/scripts/to_lodestone.py DESTINATION ${CMAKE_INSTALL_DATADIR}/lodestone/python)
 install(DIRECTORY ${PROJECT_SOURCE_DIR}/include/lodestone DESTINATION ${CMAKE_INSTALL_INCLUDEDIR})
 
 set(LODESTONE_CMAKE_DIR ${CMAKE_INSTALL_LIBDIR}/cmake/Lodestone)

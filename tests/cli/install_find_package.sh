@@ -1,5 +1,6 @@
 #!/usr/bin/env bash
-# Installs Lodestone into a temporary prefix, then configures, builds and runs an
+# Installs Lodestone into a temporary prefix (checks the binary, headers, pkg-config
+# file and the Python helper), then configures, builds and runs an
 # outside project that finds it with find_package(Lodestone), at 1 and 2 ranks.
 set -euo pipefail
 tmp=$(mktemp -d)
@@ -18,3 +19,8 @@ for p in 1 2; do
   grep -q "nnz=148 .*: ok" <<<"$out"
 done
 "$tmp/prefix/bin/lodestone" --version
+# The installed Python helper finds its module under share/ and converts a matrix
+# written by the installed lodestone back to SciPy.
+"$tmp/prefix/bin/lodestone" generate laplace1d --n 12 "$tmp/line.h5" >/dev/null
+"$tmp/prefix/bin/to-lodestone" back "$tmp/line.h5" "$tmp/line.npz"
+test -s "$tmp/line.npz"
