@@ -35,9 +35,9 @@ run -n 2 "$LODESTONE" generate dense-spectrum --n 4000 "$tmp/dense.h5" >/dev/nul
 
 # name  file  K  matvec budget  extra plan options
 cases=(
-  "laplace2d-1000x1000 plate.h5 4 300 --ghost-rows 2000"
+  "laplace2d-1000x1000 plate.h5 4 100 --ghost-rows 2000"
   "walk-1e6-deg8 walk.h5 2 40"
-  "dense-4000 dense.h5 2 300"
+  "dense-4000 dense.h5 2 100"
 )
 to_mib() {  # "187.5 MiB" -> 187.5
   awk -v v="$1" -v u="$2" 'BEGIN { f = (u == "KiB") ? 1/1024 : (u == "MiB") ? 1 : (u == "GiB") ? 1024 : (u == "B") ? 1/1048576 : -1; printf "%.1f", v * f }'
