@@ -55,8 +55,8 @@ TEST(PlanModel, MemoryOfTheHeaviestRankByHand) {
   EXPECT_DOUBLE_EQ(mem.read_buffers, 1000 * 20.0 + 251 * 8.0 + 250 * 8.0);  // chunk x (8+8+4), offsets, two counts
   EXPECT_DOUBLE_EQ(mem.symmetry_check, 2 * 15000.0);  // declared symmetric: transpose and difference
   EXPECT_DOUBLE_EQ(mem.library, 1000);
-  // Solving (37440 + 8320 + 39000 = 84760) outweighs loading (max(24008, 30000) = 30000).
-  const double peak = 15000 + 1000 + 84760;
+  // Solving (37440 + 8320 + 75000 = 120760) outweighs loading (max(24008, 30000) = 30000).
+  const double peak = 15000 + 1000 + 120760;
   EXPECT_DOUBLE_EQ(mem.peak(), peak);
   EXPECT_DOUBLE_EQ(mem.margin, 0.2 * peak);
   EXPECT_DOUBLE_EQ(mem.total(), 1.2 * peak);
