@@ -65,7 +65,9 @@ TEST(Calibration, MeasuresAConvergedSolve) {
   // The trial checkpoint held block + K vectors of 200 rows and is gone again.
   EXPECT_GT(c->checkpoint_bytes, 8.0 * 200 * static_cast<double>(c->block + 2));
   MPI_Barrier(comm);
-  if (comm_rank(comm) == 0) EXPECT_EQ(files_in(dir), 0u);
+  if (comm_rank(comm) == 0) {
+    EXPECT_EQ(files_in(dir), 0u);
+  }
   // Every rank holds the same figures.
   EXPECT_EQ(max_all(comm, c->seconds_per_nonzero), c->seconds_per_nonzero);
   EXPECT_EQ(max_all(comm, c->matvecs_per_pair_high), c->matvecs_per_pair_high);
@@ -90,7 +92,8 @@ TEST(Calibration, FileIsWhatPlanReads) {
   plan::MachineModel m;
   ASSERT_TRUE(plan::apply_calibration(out, ss.str(), m).is_ok());
   EXPECT_DOUBLE_EQ(m.seconds_per_nonzero, c->seconds_per_nonzero);
-  EXPECT_DOUBLE_EQ(m.reduction_latency, c->reduction_latency_seconds);
+  // Global sums are timed on more than one rank only; on one the default stands.
+  EXPECT_DOUBLE_EQ(m.reduction_latency, comm_size(comm) > 1 ? c->reduction_latency_seconds : plan::MachineModel{}.reduction_latency);
   EXPECT_DOUBLE_EQ(m.checkpoint_bandwidth, c->checkpoint_bytes_per_second);
   EXPECT_DOUBLE_EQ(m.read_bandwidth, c->read_bytes_per_second);
   EXPECT_DOUBLE_EQ(m.flop_rate, c->dense_flops_per_second);
