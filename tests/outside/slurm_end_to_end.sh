@@ -51,9 +51,10 @@ timeout 300 mpirun --allow-run-as-root --oversubscribe -n "$ranks" "$LODESTONE" 
 # plan keeps its defaults for those.
 python3 -c 'import json, sys; c = json.load(open(sys.argv[1])); json.dump({k: c[k] for k in ("format", "version", "matvecs_per_pair", "method", "seconds_per_nonzero", "dense_flops_per_second", "reduction_latency_seconds")}, open(sys.argv[2], "w"))' measured.json cal.json
 timeout 120 "$LODESTONE" plan m.h5 --pairs 2 --method block --scheduler slurm --cores-per-node "$ranks" \
-  --node-memory "${mem_mb}M" --max-walltime 00:02:00 --calibration cal.json --job-name e2e \
+  --nodes 1 --node-memory "${mem_mb}M" --max-walltime 00:02:00 --calibration cal.json --job-name e2e \
   --lodestone "$LODESTONE" --out job.slurm > plan.txt
 grep -qx '#SBATCH --time=00:02:00' job.slurm || fail "the script does not ask for 2 minutes"
+grep -qx '#SBATCH --nodes=1' job.slurm || fail "the script does not ask for the one node there is"
 margin="$(sed -n 's/^#SBATCH --signal=B:USR1@\([0-9]*\)$/\1/p' job.slurm)"
 if [ -z "$margin" ] || [ "$margin" -lt 30 ]; then fail "signal margin '$margin' is not at least 30 s"; fi
 grep -q '^#SBATCH --requeue$' job.slurm || fail "the script does not ask to be requeueable"
