@@ -27,6 +27,8 @@ cleanup() {
   rm -rf "$tmp"
 }
 trap cleanup EXIT
+# A TERM (ctest's timeout) or INT still runs the cleanup: exit, and the EXIT trap stops the daemons.
+trap 'exit 143' TERM INT
 job=""
 log() { cat "$tmp"/e2e-*.out 2>/dev/null || true; }
 fail() { echo "FAIL: $*" >&2; echo "--- job log ---" >&2; log >&2; exit 1; }
