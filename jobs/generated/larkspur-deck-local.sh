@@ -11,16 +11,16 @@
 #   heaviest rank         44951 rows, 224679 nonzeros (most rows on any rank: 45150)
 # Memory per rank (the heaviest rank)
 #   matrix rows           3.1 MiB
-#   block vectors         16.5 MiB
+#   block vectors         24.8 MiB
 #   locked vectors        2.8 MiB (8 vectors)
-#   halo (ghost values)   21.4 MiB (at most 224679 ghost rows; an upper bound, column indices are not read)
+#   halo (ghost values)   42.0 MiB (at most 224679 ghost rows; an upper bound, column indices are not read)
 #   read buffers          5.0 MiB (while loading)
 #   symmetry check        6.2 MiB (while loading: transpose and difference)
 #   library overhead      64.0 MiB (MPI, PETSc, HDF5)
-#   peak                  107.8 MiB (matrix + library + the larger of solving 40.7 MiB and loading 6.2 MiB)
-#   safety margin         21.6 MiB
-#   total                 129.4 MiB
-#   per node              1.0 GiB for 8 ranks, of 30.4 GiB usable
+#   peak                  136.6 MiB (matrix + library + the larger of solving 69.6 MiB and loading 6.2 MiB)
+#   safety margin         27.3 MiB
+#   total                 164.0 MiB
+#   per node              1.3 GiB for 8 ranks, of 30.4 GiB usable
 # Time
 #   speeds from           defaults (common practice, not measured here)
 #   convergence from      defaults (common practice, not measured here)

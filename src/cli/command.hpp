@@ -17,6 +17,7 @@ struct Command {
   std::function<Status(MPI_Comm)> run;
 };
 
+Command make_calibrate_command(CLI::App& root);
 Command make_generate_command(CLI::App& root);
 Command make_inspect_command(CLI::App& root);
 Command make_import_command(CLI::App& root);

@@ -57,6 +57,7 @@ int main(int argc, char** argv) {
       cli::make_solve_command(app),
       cli::make_verify_command(app),
       cli::make_plan_command(app),
+      cli::make_calibrate_command(app),
   };
   // Set after the subcommands, which would otherwise inherit it.
   app.footer(

@@ -28,6 +28,11 @@ Status apply_calibration(const std::string& path, const std::string& text, Machi
   number("reduction_latency_seconds", &m.reduction_latency);
   number("checkpoint_bytes_per_second", &m.checkpoint_bandwidth);
   number("read_bytes_per_second", &m.read_bandwidth);
+  number("dense_flops_per_second", &m.flop_rate);
+  if (s && j.contains("method")) {
+    if (!j["method"].is_string()) s = Status::input(fmt::format("{}: \"method\" must be a string", path));
+    else m.calibrated_method = j["method"].get<std::string>();
+  }
   if (s && j.contains("matvecs_per_pair")) {
     const auto& r = j["matvecs_per_pair"];
     if (!r.is_array() || r.size() != 2 || !r[0].is_number() || !r[1].is_number() || r[0].get<double>() <= 0 ||
@@ -41,7 +46,8 @@ Status apply_calibration(const std::string& path, const std::string& text, Machi
   }
   if (!s) return s;
   if (j.contains("seconds_per_nonzero") || j.contains("reduction_latency_seconds") ||
-      j.contains("checkpoint_bytes_per_second") || j.contains("read_bytes_per_second"))
+      j.contains("checkpoint_bytes_per_second") || j.contains("read_bytes_per_second") ||
+      j.contains("dense_flops_per_second"))
     m.speed_source = fmt::format("calibration {} (other figures: defaults)", path);
   model = m;
   return Status::ok();

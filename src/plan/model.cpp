@@ -43,7 +43,9 @@ MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int
   s.checkpoint_vectors = s.block + pairs;
   if (method == "chebyshev") {
     s.passes_per_iteration = 10;     // filter degree: the solver starts at 10 and adapts it (4 to 400)
-    s.blocks_held = 4;               // three-term recurrence (3 blocks) and A X for Rayleigh-Ritz
+    // The subspace (X and A X), the filter's recurrence (two more) and the Rayleigh-Ritz
+    // temporaries (two more): 6, from the measured peak of whole solves (docs/performance-model.md).
+    s.blocks_held = 6;
     s.startup_matvecs = 24;          // Lanczos run bounding the unwanted interval
     s.default_matvecs_per_pair_low = 60;
     s.default_matvecs_per_pair_high = 600;
@@ -72,14 +74,27 @@ MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool de
   out.matrix = dense ? 8.0 * rows * static_cast<double>(n) : nnz * (8.0 + m.index_bytes) + rows * 3.0 * m.index_bytes;
   out.vectors = 8.0 * vrows * static_cast<double>(s.blocks_held * s.block);
   out.locked = 8.0 * vrows * static_cast<double>(s.pairs);
-  out.halo = static_cast<double>(ghosts) * (8.0 * static_cast<double>(s.block) + m.index_bytes);
+  // Ghost values of one block product are received into one buffer and the rows others need are
+  // packed into another of about the same size: two buffers of b values per ghost row, and its index.
+  out.halo = static_cast<double>(ghosts) * (16.0 * static_cast<double>(s.block) + m.index_bytes);
   if (!dense) {
     // csr_reader: a chunk of int64 columns, double values and PETSc columns; offsets and two count arrays.
     const double chunk = static_cast<double>(std::min<std::int64_t>(m.read_chunk_entries, std::max<std::int64_t>(part.heaviest_nnz, 1)));
     out.read_buffers = chunk * (8.0 + 8.0 + m.index_bytes) + (rows + 1) * 8.0 + rows * 2.0 * m.index_bytes;
   }
-  // Matrix::load checks a matrix declared symmetric with a transpose and a difference: two more copies.
-  if (symmetric) out.symmetry_check = 2.0 * out.matrix;
+  // Matrix::load checks a matrix declared symmetric with a transpose and a difference. Sparse: two
+  // more copies (the difference of two patterns is a new matrix). Dense: the difference is formed in
+  // the transpose's place (one copy), but on p > 1 ranks the transpose sends every entry outside the
+  // rank's diagonal block to its owner through PETSc's stash: the value and two indices, buffered on
+  // the sending and on the receiving side.
+  if (symmetric) {
+    if (dense) {
+      const double off = rows * (static_cast<double>(n) - rows);
+      out.symmetry_check = out.matrix + (part.parts > 1 ? 2.0 * off * (8.0 + 2.0 * m.index_bytes) : 0.0);
+    } else {
+      out.symmetry_check = 2.0 * out.matrix;
+    }
+  }
   out.library = m.library_overhead;
   out.margin = m.safety_fraction * out.peak();
   return out;

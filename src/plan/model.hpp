@@ -39,6 +39,7 @@ struct MachineModel {
   std::int64_t read_chunk_entries = std::int64_t{1} << 22;  // LoadOptions::chunk_entries
   // Matvecs each pair needs, low and high (common practice; a calibration replaces them).
   double matvecs_per_pair_low = 0, matvecs_per_pair_high = 0;  // 0: the method's default
+  std::string calibrated_method;     // the method a calibration's convergence figures came from
   std::string speed_source = "defaults (common practice, not measured here)";
   std::string convergence_source = "defaults (common practice, not measured here)";
 };

@@ -12,6 +12,7 @@
 #include "io/matrix_reader.hpp"
 #include "lodestone/plan.hpp"
 #include "plan/calibration.hpp"
+#include "plan/matrix_facts.hpp"
 #include "plan/model.hpp"
 #include "plan/partition_scan.hpp"
 #include "support/collective.hpp"
@@ -32,45 +33,8 @@ namespace {
 using plan::MachineModel;
 using plan::MethodShape;
 using plan::PartitionStats;
-
-struct MatrixFacts {
-  Layout layout = Layout::csr;
-  std::int64_t rows = 0, nnz = 0;
-  bool symmetric = false;
-  double file_index_bytes = 8;
-};
-
-Result<MatrixFacts> read_facts(MPI_Comm comm, const std::string& path, const std::string& group) {
-  auto file = h5::open_read(comm, path);
-  if (!file) return file.status();
-  auto g = h5::open_group(file->get(), group, path);
-  LODESTONE_TRY(agree(comm, g.status()));
-  auto header = io::read_header(g->get(), path, group);
-  LODESTONE_TRY(agree(comm, header.status()));
-  MatrixFacts f;
-  f.layout = header->layout;
-  f.rows = header->rows;
-  f.symmetric = header->symmetric;
-  if (f.layout == Layout::dense) {
-    f.nnz = f.rows * f.rows;
-    return f;
-  }
-  Status s;
-  if (H5Lexists(g->get(), layout::kColumnIndices, H5P_DEFAULT) <= 0)
-    s = Status::input(fmt::format("{}: group '{}': missing dataset '{}'", path, group, layout::kColumnIndices));
-  if (s) {
-    h5::Handle col(H5Dopen2(g->get(), layout::kColumnIndices, H5P_DEFAULT));
-    auto shape = h5::dataset_shape(col.get());
-    if (!shape || shape->dims.size() != 1)
-      s = Status::input(fmt::format("{}: dataset '{}/column_indices' must be one-dimensional", path, group));
-    else {
-      f.nnz = shape->dims[0];
-      f.file_index_bytes = static_cast<double>(shape->type_size);
-    }
-  }
-  LODESTONE_TRY(agree(comm, s));
-  return f;
-}
+using plan::MatrixFacts;
+using plan::read_facts;
 
 Result<std::string> read_text_file(MPI_Comm comm, const std::string& path) {
   Status s;
@@ -392,6 +356,9 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
                                        "with more memory would use every core", out.ranks_per_node,
                                        out.ranks_per_node == 1 ? "" : "s", r.cores_per_node));
   }
+  if (!m.calibrated_method.empty() && m.calibrated_method != out.method && m.matvecs_per_pair_low > 0)
+    out.warnings.push_back(fmt::format("the calibration observed convergence with --method {}, this plan uses {}: its "
+                                       "matvecs per pair may not carry over", m.calibrated_method, out.method));
   // Warnings about the method and the partition.
   if (out.method == "power" && out.pairs > 16)
     out.warnings.push_back(fmt::format("power iteration finds the {} pairs one after another; --method block or "

@@ -51,12 +51,12 @@ TEST(PlanModel, MemoryOfTheHeaviestRankByHand) {
   EXPECT_DOUBLE_EQ(mem.matrix, 1000 * 12.0 + 250 * 12.0);        // nnz (8 + 4) + rows 3 x 4
   EXPECT_DOUBLE_EQ(mem.vectors, 8.0 * 260 * 18);                  // 3 blocks of 6 vectors over the most rows
   EXPECT_DOUBLE_EQ(mem.locked, 8.0 * 260 * 4);
-  EXPECT_DOUBLE_EQ(mem.halo, 750 * (8.0 * 6 + 4));
+  EXPECT_DOUBLE_EQ(mem.halo, 750 * (16.0 * 6 + 4));  // receive and send buffers of b values, one index
   EXPECT_DOUBLE_EQ(mem.read_buffers, 1000 * 20.0 + 251 * 8.0 + 250 * 8.0);  // chunk x (8+8+4), offsets, two counts
   EXPECT_DOUBLE_EQ(mem.symmetry_check, 2 * 15000.0);  // declared symmetric: transpose and difference
   EXPECT_DOUBLE_EQ(mem.library, 1000);
-  // Solving (37440 + 8320 + 39000 = 84760) outweighs loading (max(24008, 30000) = 30000).
-  const double peak = 15000 + 1000 + 84760;
+  // Solving (37440 + 8320 + 75000 = 120760) outweighs loading (max(24008, 30000) = 30000).
+  const double peak = 15000 + 1000 + 120760;
   EXPECT_DOUBLE_EQ(mem.peak(), peak);
   EXPECT_DOUBLE_EQ(mem.margin, 0.2 * peak);
   EXPECT_DOUBLE_EQ(mem.total(), 1.2 * peak);
