@@ -105,8 +105,8 @@ int main(int argc, char** argv) {
                 "\"seconds\": %.6f, \"path\": \"%s\"}\n",
                 comm_size(comm), static_cast<long long>(info.rows), static_cast<long long>(columns), bytes, minimum,
                 seconds[seconds.size() / 2], path.c_str());
+    std::remove(path.c_str());
+    std::remove(previous_checkpoint_path(path).c_str());
   }
-  std::remove(path.c_str());
-  std::remove(previous_checkpoint_path(path).c_str());
   return 0;
 }
