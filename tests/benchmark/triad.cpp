@@ -6,14 +6,18 @@
 // prints one JSON object: threads, array bytes, best and median GB/s over R passes.
 // Bytes per pass: 3 arrays x 8 bytes x n (two reads, one write; write-allocate
 // traffic not counted, as the STREAM convention has it).
-#include <omp.h>
-
 #include <algorithm>
 #include <chrono>
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
 #include <vector>
+
+#ifdef _OPENMP
+#include <omp.h>
+#else
+static int omp_get_max_threads() { return 1; }  // built without OpenMP: one core only
+#endif
 
 int main(int argc, char** argv) {
   double mib = 256;  // per array; far above any cache here
