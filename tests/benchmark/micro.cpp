@@ -1,0 +1,153 @@
+// Google Benchmark micro-benchmarks of the kernels that dominate a solve, on the
+// library's own internal functions: the block matrix product (Operator::apply,
+// one MatMatMult pass), block orthonormalization (Cholesky QR twice), the small
+// projected eigenproblems (symmetric and real Schur) and a checkpoint write.
+// Built with -DLODESTONE_BENCHMARKS=ON; scripts/bench runs it and keeps its JSON.
+//
+//   bench_micro [--grid N] [--dir DIR] [Google Benchmark flags]
+// --grid: side of the 2-D Laplacian the block kernels use (default 1000: 10^6 rows).
+#include <benchmark/benchmark.h>
+#include <mpi.h>
+
+#include <cstdlib>
+#include <cstring>
+#include <memory>
+#include <string>
+
+#include "algebra/block.hpp"
+#include "algebra/operator.hpp"
+#include "algebra/small_eigen.hpp"
+#include "io/generators.hpp"
+#include "io/matrix_writer.hpp"
+#include "lodestone/checkpoint.hpp"
+#include "lodestone/matrix.hpp"
+#include "lodestone/runtime.hpp"
+
+using namespace lodestone;
+
+namespace {
+
+std::int64_t g_grid = 1000;
+std::string g_dir = "/tmp";
+std::unique_ptr<Matrix> g_matrix;
+
+Mat matrix() { return g_matrix->petsc(); }
+
+algebra::Block random_block(int cols, std::uint64_t stream) {
+  auto b = algebra::Block::like(matrix(), cols);
+  algebra::fill_random(*b, 7, stream);
+  return std::move(*b);
+}
+
+// Y = A X for a block of b vectors. Bytes moved once per block (the suite's formula):
+// nnz x (8 value + 4 index) + (n+1) x 4 offsets + n x b x 8 x 2 (read X, write Y).
+void BM_BlockProduct(benchmark::State& state) {
+  const int b = static_cast<int>(state.range(0));
+  algebra::Operator op(matrix());
+  auto x = random_block(b, 1);
+  auto y = random_block(b, 2);
+  if (!op.apply(x, y).ok()) state.SkipWithError("product failed");  // sets up the product structure once
+  for (auto _ : state) {
+    if (!op.apply(x, y).ok()) state.SkipWithError("product failed");
+  }
+  MatInfo mi;
+  MatGetInfo(matrix(), MAT_GLOBAL_SUM, &mi);
+  const double n = static_cast<double>(g_matrix->info().rows);
+  const double bytes = mi.nz_used * 12.0 + (n + 1) * 4.0 + n * b * 16.0;
+  state.SetBytesProcessed(static_cast<std::int64_t>(bytes * static_cast<double>(state.iterations())));
+  state.counters["matvecs/s"] = benchmark::Counter(static_cast<double>(b * state.iterations()), benchmark::Counter::kIsRate);
+}
+BENCHMARK(BM_BlockProduct)->Arg(1)->Arg(8)->Arg(12)->Arg(16)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+void BM_Orthonormalize(benchmark::State& state) {
+  const int b = static_cast<int>(state.range(0));
+  auto x = random_block(b, 3);
+  auto work = random_block(b, 3);
+  for (auto _ : state) {
+    algebra::copy_columns(x, 0, work, 0, b);
+    auto r = algebra::orthonormalize(work, nullptr, 0, 7, 9);
+    if (!r) state.SkipWithError("orthonormalize failed");
+  }
+  state.SetBytesProcessed(static_cast<std::int64_t>(static_cast<double>(g_matrix->info().rows) * b * 8.0 *
+                                                    static_cast<double>(state.iterations())));
+}
+BENCHMARK(BM_Orthonormalize)->Arg(8)->Arg(12)->Arg(16)->Unit(benchmark::kMillisecond)->UseRealTime();
+
+algebra::Small random_small(int n, bool symmetric) {
+  algebra::Small h(n, n);
+  for (int j = 0; j < n; ++j)
+    for (int i = 0; i < n; ++i) h(i, j) = io::hashed_uniform(5, static_cast<std::uint64_t>(i), static_cast<std::uint64_t>(j)) - 0.5;
+  if (symmetric)
+    for (int j = 0; j < n; ++j)
+      for (int i = 0; i < j; ++i) h(j, i) = h(i, j);
+  return h;
+}
+
+void BM_SymmetricEigen(benchmark::State& state) {
+  const auto h = random_small(static_cast<int>(state.range(0)), true);
+  for (auto _ : state) {
+    auto e = algebra::symmetric_eigen(MPI_COMM_WORLD, h);
+    benchmark::DoNotOptimize(e);
+  }
+}
+BENCHMARK(BM_SymmetricEigen)->Arg(12)->Arg(24)->Arg(48)->Unit(benchmark::kMicrosecond);
+
+void BM_RealSchur(benchmark::State& state) {
+  const auto h = random_small(static_cast<int>(state.range(0)), false);
+  const algebra::Priority by_modulus = [](double re, double im) { return re * re + im * im; };
+  for (auto _ : state) {
+    auto s = algebra::real_schur(MPI_COMM_WORLD, h, by_modulus);
+    benchmark::DoNotOptimize(s);
+  }
+}
+BENCHMARK(BM_RealSchur)->Arg(12)->Arg(24)->Arg(48)->Unit(benchmark::kMicrosecond);
+
+// A checkpoint of one block of b vectors of the matrix's rows (atomic, fsynced).
+void BM_CheckpointWrite(benchmark::State& state) {
+  const int b = static_cast<int>(state.range(0));
+  const MatrixInfo& info = g_matrix->info();
+  Checkpoint c;
+  c.identity.rows = info.rows;
+  c.state.method = "micro";
+  c.state.rows = info.rows;
+  c.state.row_begin = info.row_begin;
+  c.state.row_end = info.row_end;
+  StateBlock& blk = c.state.blocks["active"];
+  blk.columns = b;
+  blk.local.assign(static_cast<std::size_t>(info.row_end - info.row_begin) * b, 0.25);
+  const std::string path = g_dir + "/micro-checkpoint.h5";
+  for (auto _ : state) {
+    if (!write_checkpoint(MPI_COMM_WORLD, path, c).ok()) state.SkipWithError("checkpoint write failed");
+  }
+  state.SetBytesProcessed(static_cast<std::int64_t>(static_cast<double>(info.rows) * b * 8.0 *
+                                                    static_cast<double>(state.iterations())));
+  std::remove(path.c_str());
+  std::remove(previous_checkpoint_path(path).c_str());
+}
+BENCHMARK(BM_CheckpointWrite)->Arg(12)->Unit(benchmark::kMillisecond)->UseRealTime()->Iterations(3);
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  Runtime runtime(&argc, &argv);
+  // Our own flags first; the rest go to Google Benchmark.
+  int kept = 1;
+  for (int i = 1; i < argc; ++i) {
+    if (!std::strcmp(argv[i], "--grid") && i + 1 < argc) g_grid = std::atoll(argv[++i]);
+    else if (!std::strcmp(argv[i], "--dir") && i + 1 < argc) g_dir = argv[++i];
+    else argv[kept++] = argv[i];
+  }
+  argc = kept;
+  const std::string path = g_dir + "/micro-laplace2d.h5";
+  auto rows = io::generate_laplace2d(MPI_COMM_WORLD, g_grid, g_grid);
+  if (!io::write_csr_file(MPI_COMM_WORLD, path, "/matrix", g_grid * g_grid, true, rows).ok()) return 1;
+  auto m = Matrix::load(MPI_COMM_WORLD, path);
+  if (!m) return 1;
+  g_matrix = std::make_unique<Matrix>(std::move(*m));
+  benchmark::Initialize(&argc, argv);
+  benchmark::RunSpecifiedBenchmarks();
+  benchmark::Shutdown();
+  g_matrix.reset();
+  std::remove(path.c_str());
+  return 0;
+}

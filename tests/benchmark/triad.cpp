@@ -1,0 +1,52 @@
+// STREAM-style triad a[i] = b[i] + s * c[i]: the machine's sustainable memory
+// bandwidth, the limit the benchmark suite (scripts/bench) compares Lodestone's
+// matrix-product phase with. OpenMP threads give "all cores" (OMP_NUM_THREADS).
+//
+//   bench_triad [--mib M] [--repeat R]
+// prints one JSON object: threads, array bytes, best and median GB/s over R passes.
+// Bytes per pass: 3 arrays x 8 bytes x n (two reads, one write; write-allocate
+// traffic not counted, as the STREAM convention has it).
+#include <algorithm>
+#include <chrono>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <vector>
+
+#ifdef _OPENMP
+#include <omp.h>
+#else
+static int omp_get_max_threads() { return 1; }  // built without OpenMP: one core only
+#endif
+
+int main(int argc, char** argv) {
+  double mib = 256;  // per array; far above any cache here
+  int repeat = 10;
+  for (int i = 1; i + 1 < argc; i += 2) {
+    if (!std::strcmp(argv[i], "--mib")) mib = std::atof(argv[i + 1]);
+    else if (!std::strcmp(argv[i], "--repeat")) repeat = std::atoi(argv[i + 1]);
+  }
+  const long n = static_cast<long>(mib * 1024 * 1024 / 8);
+  double* a = static_cast<double*>(std::aligned_alloc(64, static_cast<size_t>(n) * 8 + 64));
+  double* b = static_cast<double*>(std::aligned_alloc(64, static_cast<size_t>(n) * 8 + 64));
+  double* c = static_cast<double*>(std::aligned_alloc(64, static_cast<size_t>(n) * 8 + 64));
+  // First touch by the same threads that run the kernel.
+#pragma omp parallel for schedule(static)
+  for (long i = 0; i < n; ++i) { a[i] = 0.0; b[i] = 1.0; c[i] = 2.0; }
+  const double s = 3.0;
+  std::vector<double> rates;
+  for (int r = 0; r < repeat; ++r) {
+    const auto t0 = std::chrono::steady_clock::now();
+#pragma omp parallel for schedule(static)
+    for (long i = 0; i < n; ++i) a[i] = b[i] + s * c[i];
+    const double t = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+    rates.push_back(3.0 * 8.0 * static_cast<double>(n) / t / 1e9);
+  }
+  double check = 0;
+  for (long i = 0; i < n; i += 4096) check += a[i];
+  std::sort(rates.begin(), rates.end());
+  std::printf("{\"threads\": %d, \"array_bytes\": %ld, \"best_gbs\": %.4f, \"median_gbs\": %.4f, \"check\": %.1f}\n",
+              omp_get_max_threads(), n * 8, rates.back(), rates[rates.size() / 2], check);
+  std::free(a); std::free(b); std::free(c);
+  return check > 0 ? 0 : 1;
+}

@@ -1,0 +1,57 @@
+#!/usr/bin/env bash
+# The benchmark suite runs end to end on tiny cases against the already-built
+# binary (scripts/bench --tiny --build): the table, table.csv and results.json
+# hold one row per case and contender, the targets are reported, the checkpoint
+# probe measured something, and the suite's own references agree with what
+# Lodestone found on the Laplacian (closed form) and the dense case (prescribed
+# spectrum). No timing is asserted.
+set -euo pipefail
+tmp="$(mktemp -d)"
+trap 'rm -rf "$tmp"' EXIT
+fail() { echo "FAIL: $*" >&2; exit 1; }
+
+timeout 540 "$LODESTONE_SOURCE/scripts/bench" --tiny --no-micro --build "$LODESTONE_BUILD" --lodestone "$LODESTONE" \
+  --out "$tmp/out" >"$tmp/table.txt" 2>"$tmp/err" || { cat "$tmp/table.txt" "$tmp/err" >&2; fail "scripts/bench --tiny failed"; }
+
+grep -q "tiny, median of 1" "$tmp/table.txt" || fail "no tiny-mode header"
+grep -q "^machine: .* cores" "$tmp/table.txt" || fail "no machine line"
+grep -q "^versions: lodestone .*PETSc .*SciPy .*OpenMPI" "$tmp/table.txt" || fail "no versions line"
+grep -q "^triad: 1 core" "$tmp/table.txt" || fail "no triad anchor"
+grep -q "^targets (issue 6):" "$tmp/table.txt" || fail "no targets section"
+grep -Eq "^  (PASS|MISS) +\(a\) auto P=2" "$tmp/table.txt" || fail "no verdict for the case (a) target"
+grep -q "checkpoint (issue 4)" "$tmp/table.txt" || fail "no checkpoint section"
+
+/usr/bin/python3 - "$tmp/out" <<'PY' || fail "CSV/JSON content"
+import csv, json, sys
+out = sys.argv[1]
+rows = list(csv.DictReader(open(f"{out}/table.csv")))
+doc = json.load(open(f"{out}/results.json"))
+assert len(rows) == len(doc["rows"]), "CSV and JSON disagree"
+def have(case, contender, ranks):
+    return [r for r in rows if r["case"] == case and r["contender"] == contender and r["ranks"] == str(ranks)]
+for case in "abcd":
+    for method in ("power", "block", "chebyshev", "auto"):
+        for p in (1, 2):
+            assert len(have(case, f"lodestone {method}", p)) == 1, (case, method, p)
+assert have("a", "scipy eigsh", 1) and have("c", "scipy eigs", 1) and have("d", "lapacke dsyevr", 1)
+# Chebyshev is symmetric-only: the walk row says why it did not run.
+assert "symmetric" in have("c", "lodestone chebyshev", 1)[0]["note"]
+# The suite's references against Lodestone's converged answers: the 2-D Laplacian's closed
+# form (case a, b) and the prescribed spectrum n..1 (case d). The walk's subdominant eigenvalues
+# lie close together on a circle, so its rows only have to be filled in.
+for case, tol in (("a", 1e-6), ("b", 1e-6), ("d", 1e-6)):
+    r = have(case, "lodestone auto", 2)[0]
+    assert r["converged"].split("/")[0] == r["converged"].split("/")[1], (case, r)
+    assert float(r["max_eig_error"]) < tol, (case, r["max_eig_error"])
+    assert float(r["max_rel_residual"]) <= 1e-8, (case, r["max_rel_residual"])
+    assert float(r["peak_rss_mib_per_rank"]) > 1 and float(r["plan_mib_per_rank"]) > 1, (case, r)
+    assert float(r["matvecs"]) > 0 and float(r["wall_vs_ref"]) > 0
+walk = have("c", "lodestone auto", 2)[0]
+assert walk["matvecs"] and (walk["converged"] == "4/4" or "did not converge" in walk["note"]), walk
+assert doc["triad_gbs"], "no triad figure"
+assert any(t["verdict"] in ("PASS", "MISS") for t in doc["targets"])
+ck = doc["checkpoints"]
+assert ck and all(c["bytes"] >= c["minimum_bytes"] > 0 for c in ck), ck
+assert doc["machine"]["cores"] >= 1 and doc["machine"]["petsc"]
+PY
+echo "bench tiny: ok"
