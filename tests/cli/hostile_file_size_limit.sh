@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # The file-size limit (ulimit -f) hit while writing, at 1 and 3 ranks: first the
 # results file, then a checkpoint. Each run must exit 1 with one line saying the
-# file could not be finished, every rank must shut down cleanly (no signal, no
+# file is larger than the limit allows, every rank must shut down cleanly (no signal, no
 # exit 139), no temporary file may be left, and the earlier result and checkpoint
 # under the same names must be untouched. The limit is set inside each rank
 # (bash -c "ulimit -f ...; exec lodestone"): set on mpirun itself it breaks PMIx.
@@ -9,6 +9,9 @@ set -euo pipefail
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 MPI=(mpirun --allow-run-as-root --oversubscribe)
+# Open MPI's shared-memory transport backs itself with a file far larger than the
+# limit (its ranks would die of SIGXFSZ while starting); TCP on loopback has none.
+export OMPI_MCA_btl=self,tcp
 fail() { echo "FAIL: $*" >&2; exit 1; }
 
 # 20000 rows: one eigenvector alone is 160 kB, well past a 64 kB limit, while the
@@ -41,7 +44,7 @@ limited() {  # WHAT PATTERN ARGS...: lodestone solve under ulimit -f 64, at 1 an
   done
 }
 
-limited "results write" "could not finish writing" --pairs 1 --out "$tmp/r.h5"
+limited "results write" "r.h5: the results file needs about .* file-size limit" --pairs 1 --out "$tmp/r.h5"
 # The checkpoint is written when the run stops; the budget of one second stops it at once.
-limited "checkpoint write" "checkpoint" --pairs 1 --checkpoint "$tmp/ck.h5" --time-budget 1s --out "$tmp/new.h5"
+limited "checkpoint write" "ck.h5: the checkpoint needs about .* file-size limit" --pairs 1 --checkpoint "$tmp/ck.h5" --time-budget 1s --out "$tmp/new.h5"
 echo "file-size limit: all checks passed"
