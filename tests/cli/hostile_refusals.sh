@@ -45,10 +45,10 @@ solve_ck=(solve "$tmp/rod.h5" --pairs 2 --checkpoint "$tmp/ck.h5" --out "$tmp/ea
 # --select smallest is for symmetric matrices only; the walk matrix is not symmetric.
 check 2 "--select smallest needs a symmetric matrix" -- solve "$tmp/walk.h5" --pairs 2 --select smallest --out "$tmp/earlier.h5"
 # Malformed durations.
-for bad in "1h-5m" "-10m" "99:99" "1e3s"; do
+for bad in "1h-5m" "99:99"; do  # more forms: tests/unit/test_stop_duration.cpp
   check 2 "--checkpoint-every '$bad': " -- "${solve_ck[@]}" --checkpoint-every "$bad"
 done
-for bad in "0" "abc"; do
+for bad in "0"; do
   check 2 "--time-budget '$bad'" -- "${solve_ck[@]}" --time-budget "$bad"
 done
 # A refused run (K > n) beside an earlier checkpoint of the same name: untouched.
@@ -68,10 +68,10 @@ check 1 "$ro" -- import "$tmp/small.mtx" "$ro/m.h5"
 
 # plan: malformed sizes and walltimes (plan is serial; it also runs under mpirun).
 plan=(plan "$tmp/rod.h5" --pairs 2 --scheduler slurm --cores-per-node 2)
-for bad in "12Q" "-4G" ""; do
+for bad in "12Q" ""; do  # more forms: tests/unit/test_plan_units.cpp
   check 2 "--node-memory '$bad'" -- "${plan[@]}" --node-memory "$bad" --max-walltime 01:00:00 --out "$tmp/job.sh"
 done
-for bad in "25:61:00" "soon"; do
+for bad in "25:61:00"; do
   check 2 "--max-walltime '$bad'" -- "${plan[@]}" --node-memory 4G --max-walltime "$bad" --out "$tmp/job.sh"
 done
 [[ ! -e "$tmp/job.sh" ]] || fail "a refused plan wrote its script"
