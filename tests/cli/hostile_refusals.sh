@@ -15,12 +15,13 @@ fail() { echo "FAIL: $*" >&2; exit 1; }
 "$LODESTONE" generate laplace1d --n 10 "$tmp/rod.h5" >/dev/null
 "$LODESTONE" generate walk --n 40 "$tmp/walk.h5" >/dev/null
 "$LODESTONE" solve "$tmp/rod.h5" --pairs 1 --quiet --out "$tmp/earlier.h5"
-# An earlier checkpoint: a run stopped by its matvec budget keeps its checkpoint.
+# An earlier checkpoint: a run stopped by its time budget writes one (exit 3).
+"$LODESTONE" generate walk --n 20000 "$tmp/big.h5" >/dev/null
 rc=0
-"$LODESTONE" solve "$tmp/rod.h5" --pairs 3 --quiet --max-matvecs 12 --checkpoint "$tmp/ck.h5" --out "$tmp/partial-run.h5" \
+"$LODESTONE" solve "$tmp/big.h5" --pairs 1 --quiet --time-budget 1s --checkpoint "$tmp/ck.h5" --out "$tmp/unused.h5" \
   >/dev/null 2>&1 || rc=$?
-[[ -e "$tmp/ck.h5" ]] || { "$LODESTONE" generate laplace1d --n 5 "$tmp/ck.h5" >/dev/null; }  # any file will do
-rm -f "$tmp/partial-run.h5"
+[[ "$rc" == 3 ]] && "$LODESTONE" inspect "$tmp/ck.h5" >/dev/null || fail "no earlier checkpoint to protect (exit $rc)"
+rm -f "$tmp/big.h5"
 sums() { (cd "$tmp" && sha256sum rod.h5 walk.h5 earlier.h5 ck.h5); }
 before=$(sums)
 
