@@ -137,15 +137,17 @@ int apply_edits(hid_t file, std::string_view text, std::int64_t& want) {
       std::getline(in, rest);
       Object obj(file, path);
       if (obj.id < 0) continue;
-      if (H5Aexists(obj.id, name.c_str()) > 0) H5Adelete(obj.id, name.c_str());
+      // Any change counts as an edit, even when the new value is then refused.
+      if (H5Aexists(obj.id, name.c_str()) > 0 && H5Adelete(obj.id, name.c_str()) >= 0) ++edits;
       fuzz::Item it;
-      if (op == "delattr" || (parse_item("attr", name, rest, it) && fuzz::write_item(obj.id, true, it))) ++edits;
+      if (op == "attr" && parse_item("attr", name, rest, it) && fuzz::write_item(obj.id, true, it)) ++edits;
     } else if (op == "dset") {
       std::getline(in, rest);
       Object parent(file, parent_of(path));
       const std::string leaf = leaf_of(path);
       if (parent.id < 0 || leaf.empty() || H5Iget_type(parent.id) != H5I_GROUP) continue;
-      if (H5Lexists(parent.id, leaf.c_str(), H5P_DEFAULT) > 0) H5Ldelete(parent.id, leaf.c_str(), H5P_DEFAULT);
+      if (H5Lexists(parent.id, leaf.c_str(), H5P_DEFAULT) > 0 && H5Ldelete(parent.id, leaf.c_str(), H5P_DEFAULT) >= 0)
+        ++edits;
       fuzz::Item it;
       if (parse_item("dset", leaf, rest, it) && fuzz::write_item(parent.id, false, it)) ++edits;
     } else if (op == "del") {
