@@ -16,9 +16,10 @@ fail() { echo "FAIL: $*" >&2; exit 1; }
 "$LODESTONE" generate walk --n 40 "$tmp/walk.h5" >/dev/null
 "$LODESTONE" solve "$tmp/rod.h5" --pairs 1 --quiet --out "$tmp/earlier.h5"
 # An earlier checkpoint: a run stopped by its time budget writes one (exit 3).
-"$LODESTONE" generate walk --n 20000 "$tmp/big.h5" >/dev/null
+# A slow solve (20 clustered pairs to 1e-14) that a one-second budget always stops.
+"$LODESTONE" generate laplace2d --nx 150 --ny 150 "$tmp/big.h5" >/dev/null
 rc=0
-"$LODESTONE" solve "$tmp/big.h5" --pairs 1 --quiet --time-budget 1s --checkpoint "$tmp/ck.h5" --out "$tmp/unused.h5" \
+"$LODESTONE" solve "$tmp/big.h5" --pairs 20 --tol 1e-14 --method block --quiet --time-budget 1s --checkpoint "$tmp/ck.h5" --out "$tmp/unused.h5" \
   >/dev/null 2>&1 || rc=$?
 [[ "$rc" == 3 ]] && "$LODESTONE" inspect "$tmp/ck.h5" >/dev/null || fail "no earlier checkpoint to protect (exit $rc)"
 rm -f "$tmp/big.h5"
