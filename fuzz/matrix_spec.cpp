@@ -144,7 +144,8 @@ bool write_item_data(hid_t obj, bool is_attr, const Item& it) {
                   : H5Dwrite(obj, H5T_NATIVE_INT64, H5S_ALL, H5S_ALL, H5P_DEFAULT, buf.data())) >= 0;
 }
 
-// Creates one attribute or dataset; closes what it opened.
+}  // namespace
+
 bool write_item(hid_t group, bool is_attr, const Item& it) {
   hid_t type = H5I_INVALID_HID;
   if (it.is_string()) {
@@ -178,6 +179,8 @@ bool write_item(hid_t group, bool is_attr, const Item& it) {
   H5Tclose(type);
   return ok;
 }
+
+namespace {
 
 [[noreturn]] void oracle_failure(const std::string& what) {
   std::fprintf(stderr, "fuzz oracle: %s\n", what.c_str());

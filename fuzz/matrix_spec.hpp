@@ -15,6 +15,8 @@
 // (nan, inf and hex floats allowed). A dataset holds at most 65536 elements.
 #pragma once
 
+#include <hdf5.h>
+
 #include <cstdint>
 #include <string>
 #include <string_view>
@@ -54,6 +56,10 @@ void add_default_attributes(MatrixSpec& spec);
 // Writes the spec as a new HDF5 file (serial driver). False if HDF5 refused some
 // part (e.g. a name it cannot hold); such inputs are skipped.
 bool write_spec(const MatrixSpec& spec, const std::string& path);
+
+// Creates one attribute or dataset of `obj` from an item (closes what it opened);
+// false if HDF5 refused it.
+bool write_item(hid_t obj, bool is_attr, const Item& it);
 
 // A file name unique to this process, on a memory file system when there is one.
 std::string scratch_path(const char* tag);

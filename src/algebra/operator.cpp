@@ -34,7 +34,8 @@ Result<double> norm_estimate(Mat a) {
   PetscReal n1 = 0, ninf = 0;
   LODESTONE_PETSC(MatNorm(a, NORM_1, &n1));
   LODESTONE_PETSC(MatNorm(a, NORM_INFINITY, &ninf));
-  return std::sqrt(static_cast<double>(n1) * static_cast<double>(ninf));
+  // The product of the two norms would overflow (underflow) for entries near 1e+-300.
+  return std::sqrt(static_cast<double>(n1)) * std::sqrt(static_cast<double>(ninf));
 }
 
 }  // namespace lodestone::algebra

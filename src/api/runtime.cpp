@@ -20,6 +20,9 @@ Runtime::Runtime(int* argc, char*** argv) {
 }
 
 Runtime::~Runtime() {
+  // After a failed file close (disk full, ulimit -f), HDF5's own shutdown inside
+  // MPI_Finalize would crash on the file it half-freed (io/h5.hpp).
+  if (h5::a_close_failed()) h5::skip_library_shutdown();
   if (ok_) PetscFinalize();
 }
 

@@ -15,6 +15,7 @@
 #include "state/solve_session.hpp"
 #include "support/collective.hpp"
 #include "support/format.hpp"
+#include "support/petsc_status.hpp"
 
 namespace lodestone {
 namespace {
@@ -107,6 +108,31 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
 
   auto norm = algebra::norm_estimate(matrix.petsc());
   LODESTONE_TRY(agree(comm, norm.status()));
+  // Entries near 1e+-300 overflow or underflow in the squares that Gram
+  // matrices and norms form. Such a matrix is iterated as 2^-e A, scaled by a
+  // power of two (exact) so that its ||.||_est is near 1, in a copy made only
+  // then; eigenvalues, residuals and history are scaled back. Every rank takes
+  // the exponent from rank 0's estimate.
+  double unscale = 1.0;
+  {
+    double est = *norm;
+    MPI_Bcast(&est, 1, MPI_DOUBLE, 0, comm);
+    if (est > 0 && std::isfinite(est) && (est > 0x1p200 || est < 0x1p-200)) {
+      int e = 0;
+      std::frexp(est, &e);
+      unscale = std::ldexp(1.0, e);
+    }
+  }
+  struct OwnedMat {
+    Mat m = nullptr;
+    ~OwnedMat() { MatDestroy(&m); }
+  } scaled;
+  if (unscale != 1.0) {
+    auto checked = [](PetscErrorCode e, const char* what) { return e == 0 ? Status::ok() : petsc_status(e, what); };
+    LODESTONE_TRY(agree(comm, checked(MatDuplicate(matrix.petsc(), MAT_COPY_VALUES, &scaled.m), "copying the matrix")));
+    LODESTONE_TRY(agree(comm, checked(MatScale(scaled.m, 1.0 / unscale), "scaling the matrix")));
+    *norm /= unscale;
+  }
   methods::Problem problem;
   problem.symmetric = info.symmetric;
   problem.selection = *selection;
@@ -118,9 +144,9 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   MPI_Bcast(&problem.norm_estimate, 1, MPI_DOUBLE, 0, comm);
   problem.seed = options.seed;
   problem.has_shift = options.has_shift;
-  problem.shift = options.shift;
+  problem.shift = options.shift / unscale;
 
-  algebra::Operator op(matrix.petsc());
+  algebra::Operator op(scaled.m ? scaled.m : matrix.petsc());
   auto method = entry->make();
   auto session = state::SolveSession::open(matrix, options.checkpoint, checkpoint_identity(info, options, method_name));
   if (!session) return session.status();
@@ -138,10 +164,12 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     h.matvecs = op.matvecs();
     h.seconds = elapsed();
     method->progress(h.estimates, h.residuals);
+    for (double& x : h.estimates) x *= unscale;
+    for (double& x : h.residuals) x *= unscale;
     h.converged = std::min<std::int64_t>(method->converged(), options.pairs);
     // Only rank 0 prints, so the clock-driven decision needs no agreement.
     progress.maybe_print(h.seconds, h.iteration, h.matvecs, h.converged, h.residuals,
-                         options.tolerance * problem.norm_estimate);
+                         options.tolerance * problem.norm_estimate * unscale);
     result.history.push_back(std::move(h));
   };
   if (!*resumed) record();
@@ -158,6 +186,8 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   result.eigenvalues = pairs->re;
   result.eigenvalues_imag = pairs->im;
   result.residual_norms = pairs->residuals;
+  for (auto* values : {&result.eigenvalues, &result.eigenvalues_imag, &result.residual_norms})
+    for (double& x : *values) x *= unscale;
   result.rows = info.rows;
   result.row_begin = info.row_begin;
   result.row_end = info.row_end;
@@ -176,7 +206,7 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   result.method = method->name();
   result.selection = methods::selection_name(*selection);
   result.tolerance = options.tolerance;
-  result.norm_estimate = problem.norm_estimate;
+  result.norm_estimate = problem.norm_estimate * unscale;
   result.matvecs = op.matvecs();
   result.iterations = method->iterations();
   result.ranks = comm_size(comm);

@@ -2,6 +2,7 @@
 #include "io/atomic_output.hpp"
 
 #include <fcntl.h>
+#include <sys/resource.h>
 #include <fmt/format.h>
 #include <unistd.h>
 
@@ -11,6 +12,7 @@
 #include <random>
 
 #include "support/collective.hpp"
+#include "support/format.hpp"
 
 namespace fs = std::filesystem;
 
@@ -52,6 +54,19 @@ void remove_on_rank0(MPI_Comm comm, const std::string& path) {
     std::error_code ec;
     fs::remove(path, ec);
   }
+}
+
+Status check_size_limit(MPI_Comm comm, const std::string& path, double bytes, const char* what) {
+  Status s;
+  rlimit rl{};
+  // HDF5 adds its own metadata; 64 KiB is generous for the few objects we write.
+  const double needed = bytes + 65536.0;
+  if (::getrlimit(RLIMIT_FSIZE, &rl) == 0 && rl.rlim_cur != RLIM_INFINITY && needed > static_cast<double>(rl.rlim_cur))
+    s = Status::input(fmt::format("{}: the {} needs about {}, more than the file-size limit of {} (ulimit -f) on rank {}; "
+                                  "raise the limit or reduce the output",
+                                  path, what, human_bytes(needed), human_bytes(static_cast<double>(rl.rlim_cur)),
+                                  comm_rank(comm)));
+  return agree(comm, s);
 }
 
 Result<std::string> reserve_temporary(MPI_Comm comm, const std::string& final_path,

@@ -52,6 +52,11 @@ Result<std::string> reserve_temporary(MPI_Comm comm, const std::string& final_pa
                                       const std::vector<std::string>& inputs, const char* what,
                                       const std::function<Status()>& prepare = {});
 
+// Collective. Refuses, before anything is written, a file of about `bytes`
+// (a lower bound: its datasets) that the file-size limit of some rank (ulimit -f,
+// RLIMIT_FSIZE) would stop part-way; `what` names the file in the message.
+Status check_size_limit(MPI_Comm comm, const std::string& path, double bytes, const char* what);
+
 // The directory a path lives in ("." for a bare name).
 std::string directory_of(const std::string& path);
 Status fsync_file(const std::string& path);

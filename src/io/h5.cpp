@@ -7,7 +7,19 @@
 
 #include "support/collective.hpp"
 
+// Set by HDF5 once the library is initialised; H5_term_library does nothing while
+// it is false. Not in the public headers, but exported by every HDF5 1.8-1.14.
+extern "C" hbool_t H5_libinit_g;
+
 namespace lodestone::h5 {
+
+namespace {
+bool close_failed = false;
+}  // namespace
+
+bool a_close_failed() { return close_failed; }
+
+void skip_library_shutdown() { H5_libinit_g = false; }
 
 Handle& Handle::operator=(Handle&& o) noexcept {
   if (this != &o) {
@@ -20,7 +32,10 @@ Handle& Handle::operator=(Handle&& o) noexcept {
 
 void Handle::close() {
   if (id_ < 0) return;
-  if (H5Iis_valid(id_) > 0) H5Idec_ref(id_);
+  if (H5Iis_valid(id_) > 0) {
+    const bool file = H5Iget_type(id_) == H5I_FILE;
+    if (H5Idec_ref(id_) < 0 && file) close_failed = true;
+  }
   id_ = H5I_INVALID_HID;
 }
 
@@ -28,6 +43,7 @@ bool Handle::close_file() {
   if (id_ < 0) return true;
   herr_t e = H5Fclose(id_);
   id_ = H5I_INVALID_HID;
+  if (e < 0) close_failed = true;
   return e >= 0;
 }
 

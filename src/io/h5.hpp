@@ -38,6 +38,14 @@ class Handle {
 
 void silence_errors();
 
+// HDF5 1.10 frees a file's state when closing it fails (the final flush could not
+// be written: disk full, file-size limit) yet keeps its identifier; HDF5's own
+// shutdown, run from MPI_Finalize, then closes that identifier again and crashes.
+// Handles remember a failed close here, and Runtime's shutdown then skips HDF5's
+// clean-up (the process is ending; the operating system closes its files).
+bool a_close_failed();
+void skip_library_shutdown();
+
 // A transfer property list for collective dataset I/O.
 Handle collective_transfer();
 

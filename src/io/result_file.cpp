@@ -246,6 +246,9 @@ Status write_result_file(MPI_Comm comm, const std::string& path, const SolveResu
                          const std::vector<std::string>& inputs, std::int64_t piece_entries) {
   LODESTONE_TRY(agree(comm, check_local(result)));
   LODESTONE_TRY(check_across(comm, result));
+  const double k = static_cast<double>(result.pairs()), h = static_cast<double>(result.history.size());
+  LODESTONE_TRY(check_size_limit(comm, path, 8.0 * (static_cast<double>(result.rows) * k + h * (4.0 + 2.0 * k)),
+                                 "results file"));
   auto out = AtomicOutput::begin(comm, path, inputs);
   if (!out) return out.status();
   auto file = h5::create(comm, out->temp_path());

@@ -6,6 +6,7 @@
 #include <ctime>
 #include <limits>
 
+#include "io/atomic_output.hpp"
 #include "io/h5.hpp"
 #include "state/checkpoint_checksum.hpp"
 #include "state/checkpoint_file.hpp"
@@ -154,6 +155,11 @@ Status write_contents(MPI_Comm comm, hid_t file, const Checkpoint& c) {
 
 Status write(MPI_Comm comm, const std::string& path, const Checkpoint& ckpt, const std::vector<std::string>& inputs) {
   LODESTONE_TRY(check_before_writing(comm, ckpt));
+  double values = 0;  // replicated facts, so every rank counts the same
+  for (const auto& [name, b] : ckpt.state.blocks) values += static_cast<double>(b.columns * ckpt.state.rows);
+  for (const auto& [name, a] : ckpt.state.arrays) values += static_cast<double>(a.size());
+  for (const auto& h : ckpt.history) values += 4.0 + 2.0 * static_cast<double>(h.estimates.size());
+  LODESTONE_TRY(io::check_size_limit(comm, path, 8.0 * values, "checkpoint"));
   auto out = GenerationalOutput::begin(comm, path, inputs);
   if (!out) return out.status();
   auto file = h5::create(comm, out->temp_path());

@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include "io/atomic_output.hpp"
 #include "state/method_state_adapter.hpp"
 #include "state/stop_signals.hpp"
 #include "support/collective.hpp"
@@ -14,6 +15,12 @@ Result<std::unique_ptr<SolveSession>> SolveSession::open(const Matrix& matrix, c
                                                          RunIdentity identity) {
   if (plan.path.empty() && (plan.resume || plan.time_budget_seconds > 0 || plan.every_seconds > 0))
     return Status::usage("--resume, --time-budget and --checkpoint-every need --checkpoint FILE");
+  if (!plan.path.empty()) {
+    // Refuse a checkpoint path that cannot be written or names an input before
+    // any work (nothing is created: each checkpoint gets a fresh temporary name).
+    auto writable = io::reserve_temporary(matrix.comm(), plan.path, plan.inputs, "checkpoint");
+    if (!writable) return writable.status();
+  }
   ClockOptions o;
   o.time_budget = plan.time_budget_seconds;
   o.checkpoint_every = plan.every_seconds;
