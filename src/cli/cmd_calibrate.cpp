@@ -37,7 +37,7 @@ Command make_calibrate_command(CLI::App& root) {
       "Run it with the ranks (and on the kind of node) the real run will use: it loads the matrix,\n"
       "times block products, small global sums and a checkpoint write (a trial file beside --out,\n"
       "removed again), and runs the solver within --matvecs. The file feeds plan --calibration.\n"
-      "Exit status: 0 written, 1 unreadable matrix or a solve that did not progress, 2 malformed options.\n"
+      "Exit status: 0 written, 1 unreadable matrix or a solve that did not progress, 2 malformed options.\n\n"
       "Examples:\n"
       "  mpirun -n 4 lodestone calibrate small-bridge.h5 --pairs 6 --out node.json\n"
       "  lodestone plan bridge.h5 --pairs 6 --scheduler slurm --cores-per-node 64 --node-memory 256G \\\n"
