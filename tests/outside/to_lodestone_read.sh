@@ -6,17 +6,11 @@
 # eigenvalues (numpy.linalg.eigvalsh) n..1, the walk matrix column-stochastic.
 # The helper's fingerprint of each equals `lodestone inspect --check`'s, and
 # `to-lodestone back` writes files SciPy and NumPy load as the same matrices.
-set -euo pipefail
-: "${LODESTONE:?}" "${LODESTONE_SOURCE:?}"
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 export LODESTONE_SOURCE
-PY=/usr/bin/python3
 check="$LODESTONE_SOURCE/tests/outside/to_lodestone_check.py"
 helper="$LODESTONE_SOURCE/scripts/to-lodestone"
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-cd "$tmp"
-run() { local p="$1"; shift; timeout 120 mpirun --allow-run-as-root --oversubscribe -n "$p" "$@"; }
-fail() { echo "FAIL: $*" >&2; exit 1; }
+cd "$work"
 
 run 3 "$LODESTONE" generate laplace2d --nx 13 --ny 7 plate.h5 >/dev/null
 run 3 "$LODESTONE" generate hypercube --dim 5 cube.h5 >/dev/null

@@ -6,19 +6,13 @@
 # matrix whose dominant pair is complex, 2 e^{+-i pi/5} by construction (the
 # conjugate-pair columns of docs/results-file.md). The result's fingerprint is the
 # helper's fingerprint of the matrix. Also the module's read_result.
-set -euo pipefail
-: "${LODESTONE:?}" "${LODESTONE_SOURCE:?}"
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 export LODESTONE_SOURCE
-PY=/usr/bin/python3
 check="$LODESTONE_SOURCE/tests/outside/to_lodestone_check.py"
 helper="$LODESTONE_SOURCE/scripts/to-lodestone"
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-cd "$tmp"
-run() { local p="$1"; shift; timeout 120 mpirun --allow-run-as-root --oversubscribe -n "$p" "$@"; }
-fail() { echo "FAIL: $*" >&2; exit 1; }
+cd "$work"
 
-timeout 120 "$PY" "$check" inputs "$tmp"
+timeout 120 "$PY" "$check" inputs "$work"
 timeout 60 "$helper" matrix rod.npz rod.h5 >/dev/null
 run 3 "$LODESTONE" solve rod.h5 --pairs 5 --select smallest --quiet --out rod-modes.h5
 timeout 60 "$helper" result rod-modes.h5 --npz rod-modes.npz >rod.txt

@@ -7,17 +7,11 @@
 # the closed-form eigenvalues (1-D Laplacian; a similarity transform of a known
 # diagonal, also checked against LAPACK through numpy.linalg). Refusals: output =
 # input, a promised symmetry that is not there, not a square 2-D matrix, NaN.
-set -euo pipefail
-: "${LODESTONE:?}" "${LODESTONE_SOURCE:?}"
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 export LODESTONE_SOURCE
-PY=/usr/bin/python3   # Debian's Python, with numpy, scipy and h5py
 check="$LODESTONE_SOURCE/tests/outside/to_lodestone_check.py"
 helper="$LODESTONE_SOURCE/scripts/to-lodestone"
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-cd "$tmp"
-run() { local p="$1"; shift; timeout 120 mpirun --allow-run-as-root --oversubscribe -n "$p" "$@"; }
-fail() { echo "FAIL: $*" >&2; exit 1; }
+cd "$work"
 printed_fp() { awk '/^fingerprint/ {print $2}' "$1"; }
 inspected_fp() {  # ranks file [group]
   local out
@@ -25,7 +19,7 @@ inspected_fp() {  # ranks file [group]
   awk '/^fingerprint/ {print $2}' <<<"$out"
 }
 
-timeout 120 "$PY" "$check" inputs "$tmp"
+timeout 120 "$PY" "$check" inputs "$work"
 
 timeout 60 "$helper" matrix rod.npz rod.h5 >rod.out
 timeout 60 "$helper" matrix rod.mtx rod-mm.h5 >rod-mm.out
@@ -63,7 +57,7 @@ echo "ok: fingerprints agree ($ref, $got)"
 run 2 "$LODESTONE" solve rod.h5 --pairs 4 --select largest --quiet --out rod-modes.h5
 "$PY" "$check" rod-eigenvalues rod-modes.h5 60 4
 run 2 "$LODESTONE" solve shear.h5 --pairs 3 --method block --quiet --out shear-modes.h5
-"$PY" "$check" shear-eigenvalues shear-modes.h5 "$tmp"
+"$PY" "$check" shear-eigenvalues shear-modes.h5 "$work"
 
 # Refusals: exit 1, one line naming the problem, nothing written.
 refuse() {  # what-to-grep args...
