@@ -21,6 +21,7 @@
 #include "plan/matrix_facts.hpp"
 #include "plan/model.hpp"
 #include "support/collective.hpp"
+#include "support/format.hpp"
 #include "support/petsc_status.hpp"
 
 namespace lodestone {
@@ -28,15 +29,6 @@ namespace {
 
 // Seconds since `start` on the slowest rank (everyone waits for it).
 double slowest_since(MPI_Comm comm, double start) { return max_all(comm, MPI_Wtime() - start); }
-
-std::string utc_now() {
-  std::time_t t = std::time(nullptr);
-  std::tm tm{};
-  gmtime_r(&t, &tm);
-  char buf[32];
-  std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &tm);
-  return buf;
-}
 
 // The heaviest rank (most nonzeros) and the most rows of any rank, as the planner sees them.
 Result<plan::PartitionStats> partition_of(const Matrix& m) {

@@ -14,19 +14,11 @@
 #include "state/checkpoint_layout.hpp"
 #include "state/checkpoint_output.hpp"
 #include "support/collective.hpp"
+#include "support/format.hpp"
 
 namespace lodestone::ckpt {
 
 namespace {
-
-std::string utc_now() {
-  std::time_t t = std::time(nullptr);
-  std::tm tm{};
-  gmtime_r(&t, &tm);
-  char buf[32];
-  std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &tm);
-  return buf;
-}
 
 std::string broadcast_text(MPI_Comm comm, std::string text) {
   int len = static_cast<int>(text.size());

@@ -1,7 +1,9 @@
-// Byte counts and durations in units a person reads at a glance.
+// Byte counts, durations and timestamps in forms a person reads at a glance.
 #include "support/format.hpp"
 
 #include <fmt/format.h>
+
+#include <ctime>
 
 namespace lodestone {
 
@@ -24,6 +26,15 @@ std::string human_seconds(double s) {
   const int h = static_cast<int>(s / 3600);
   const int m = static_cast<int>((s - 3600 * h) / 60);
   return fmt::format("{} h {:02d} min", h, m);
+}
+
+std::string utc_now() {
+  std::time_t t = std::time(nullptr);
+  std::tm tm{};
+  gmtime_r(&t, &tm);
+  char buf[32];
+  std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &tm);
+  return buf;
 }
 
 }  // namespace lodestone
