@@ -18,16 +18,10 @@ tmp="$(mktemp -d)"
 trap 'rm -rf "$tmp"' EXIT
 run() { timeout 300 mpirun --allow-run-as-root --oversubscribe "$@"; }
 
-# Runs its arguments as a child and writes the child's peak RSS (KiB) to PREFIX.RANK.
-cat > "$tmp/peak.py" <<'PY'
-import os, resource, subprocess, sys
-r = subprocess.run(sys.argv[2:])
-peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss  # KiB on Linux
-rank = os.environ.get("OMPI_COMM_WORLD_RANK", "0")
-with open(f"{sys.argv[1]}.{rank}", "w") as f:
-    f.write(f"{peak}\n")
-sys.exit(r.returncode)
-PY
+# Each rank's peak resident memory (KiB) as measured by GNU time (Debian `time`),
+# written to RSS.<rank>.
+peak() { /usr/bin/time -f %M -o "$1.${OMPI_COMM_WORLD_RANK:-0}" "${@:2}"; }
+export -f peak
 
 run -n 2 "$LODESTONE" generate laplace2d --nx 1000 --ny 1000 "$tmp/plate.h5" >/dev/null
 run -n 2 "$LODESTONE" generate walk --n 1000000 --degree 8 "$tmp/walk.h5" >/dev/null
@@ -55,11 +49,12 @@ for c in "${cases[@]}"; do
     model="$(to_mib "$value" "$unit")"
     rm -f "$tmp/rss."*
     status=0
-    run -n "$p" python3 "$tmp/peak.py" "$tmp/rss" "$LODESTONE" solve "$tmp/$file" --pairs "$k" \
+    run -n "$p" bash -c 'peak "$@"' peak "$tmp/rss" "$LODESTONE" solve "$tmp/$file" --pairs "$k" \
       --max-matvecs "$budget" --quiet --out "$tmp/r.h5" > "$tmp/solve.txt" 2>&1 || status=$?
     if [ "$status" -ne 0 ] && [ "$status" -ne 4 ]; then cat "$tmp/solve.txt"; echo "FAIL: solve exited $status"; exit 1; fi
-    [ "$(find "$tmp" -maxdepth 1 -name 'rss.[0-9]*' | wc -l)" -eq "$p" ] || { echo "FAIL: not every rank reported its peak"; exit 1; }
-    measured="$(cat "$tmp"/rss.* | sort -n | tail -n 1 | awk '{ printf "%.1f", $1 / 1024 }')"
+    [ "$(find "$tmp" -maxdepth 1 -name 'rss.[0-9]*' | wc -l)" -eq "$p" ] || {
+      cat "$tmp/solve.txt"; ls -l "$tmp"; echo "FAIL: not every rank reported its peak"; exit 1; }
+    measured="$(grep -h '^[0-9]*$' "$tmp"/rss.* | sort -n | tail -n 1 | awk '{ printf "%.1f", $1 / 1024 }')"
     verdict="$(awk -v m="$model" -v x="$measured" 'BEGIN { r = m / x; printf "%.2f %s", r, (r >= 0.75 && r <= 1.25) ? "ok" : "OUT" }')"
     printf '%-22s %5s %14s %16s %8s\n' "$name" "$p" "$model" "$measured" "$verdict"
     case "$verdict" in *OUT) bad=1 ;; esac
