@@ -8,10 +8,15 @@
 # - five stops and resumes still finish correctly;
 # - --time-budget stops with status 3 and leaves a checkpoint that resumes;
 # - inspect summarises a checkpoint; a checkpoint refuses other options (exit 1).
-set -euo pipefail
+set -Eeuo pipefail
+# The last failed command is remembered and named if the script fails (a quiet solve says nothing itself).
+last_failure=""
+trap 'last_failure="line $LINENO: $BASH_COMMAND"' ERR
 tmp="$(mktemp -d)"
 bg=""
 cleanup() {
+  local status=$?
+  if [[ "$status" -ne 0 && -n "$last_failure" ]]; then echo "exit status $status; last failed command: $last_failure" >&2; fi
   if [[ -n "$bg" ]] && kill -0 "$bg" 2>/dev/null; then kill -KILL "$bg" 2>/dev/null || true; fi
   rm -rf "$tmp"
 }
