@@ -490,7 +490,7 @@ def main():
         if a.no_scipy:
             case_rows.append(dict(case=cid, contender="scipy", ranks=1, note="skipped (--no-scipy)"))
         elif cid == "b" and not a.tiny and not a.scipy_on_b:
-            # ARPACK's matvecs grow with 1/sqrt(relative gap) ~ nx, its time with rows: (b) is ~130x (a).
+            # SciPy eigsh's matvecs grow with 1/sqrt(relative gap) ~ nx, its time with rows: (b) is ~130x (a).
             est = scipy_seconds_a * (3e6 / 116000) * (2000 / 400) if scipy_seconds_a else None
             reason = (f"skipped: estimated {est:.0f} s from case (a) x rows ratio x gap ratio, over 10 min" if est and est > 600
                       else "skipped: over 10 min expected (case (a) not measured in this run; --scipy-on-b forces it)")
