@@ -38,4 +38,11 @@ Result<double> norm_estimate(Mat a) {
   return std::sqrt(static_cast<double>(n1)) * std::sqrt(static_cast<double>(ninf));
 }
 
+double extreme_scale(double norm) {
+  if (!(norm > 0) || !std::isfinite(norm) || (norm <= 0x1p200 && norm >= 0x1p-200)) return 1.0;
+  int e = 0;
+  std::frexp(norm, &e);
+  return std::ldexp(1.0, e);
+}
+
 }  // namespace lodestone::algebra

@@ -36,4 +36,9 @@ class Operator {
 // one pass over the local rows (and is exact for the Laplacians' ||A||_inf).
 Result<double> norm_estimate(Mat a);
 
+// For a norm (estimate) beyond 2^+-200, where the squares inside norms and Gram
+// matrices overflow or underflow, the power of two 2^e near it (so that x / 2^e
+// is near 1, and scaling by it is exact); 1 for any other norm, zero or not finite.
+double extreme_scale(double norm);
+
 }  // namespace lodestone::algebra

@@ -113,16 +113,9 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   // power of two (exact) so that its ||.||_est is near 1, in a copy made only
   // then; eigenvalues, residuals and history are scaled back. Every rank takes
   // the exponent from rank 0's estimate.
-  double unscale = 1.0;
-  {
-    double est = *norm;
-    MPI_Bcast(&est, 1, MPI_DOUBLE, 0, comm);
-    if (est > 0 && std::isfinite(est) && (est > 0x1p200 || est < 0x1p-200)) {
-      int e = 0;
-      std::frexp(est, &e);
-      unscale = std::ldexp(1.0, e);
-    }
-  }
+  double est = *norm;
+  MPI_Bcast(&est, 1, MPI_DOUBLE, 0, comm);
+  const double unscale = algebra::extreme_scale(est);
   struct OwnedMat {
     Mat m = nullptr;
     ~OwnedMat() { MatDestroy(&m); }

@@ -8,6 +8,7 @@
 #include <cmath>
 #include <limits>
 
+#include "algebra/operator.hpp"
 #include "io/result_file.hpp"
 #include "support/collective.hpp"
 #include "support/petsc_status.hpp"
@@ -51,12 +52,7 @@ Status compute(Mat a, const SolveResult& r, bool symmetric, VerifyReport* out, s
   // For a matrix whose norm is near 1e+-300 the squares inside the column norms
   // would overflow or underflow: R is then formed as A (cV) - (cV) Lambda with c
   // a power of two that brings c ||A|| near 1 (exact), and its norms divided by c.
-  double c = 1.0;
-  if (r.norm_estimate > 0x1p200 || (r.norm_estimate > 0 && r.norm_estimate < 0x1p-200)) {
-    int e = 0;
-    std::frexp(r.norm_estimate, &e);
-    c = std::ldexp(1.0, -e);
-  }
+  const double c = 1.0 / algebra::extreme_scale(r.norm_estimate);
   std::vector<double> scaled;
   if (c != 1.0) {
     scaled = data;
