@@ -16,6 +16,8 @@ Command make_generate_command(CLI::App& root) {
     std::int64_t nx = 10, ny = 10;
     std::int64_t degree = 8;
     double damping = 0.85;
+    std::int64_t communities = 1;
+    double mixing = 0.1;
     std::uint64_t seed = 1;
     std::string spectrum = "linear";
     double ratio = 0.9;
@@ -35,6 +37,14 @@ Command make_generate_command(CLI::App& root) {
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20))
       ->capture_default_str();
   app->add_option("--damping", args->damping, "damping factor d in A = d*P + (1-d)*I (walk)")
+      ->check(CLI::Range(0.0, 1.0))
+      ->capture_default_str();
+  app->add_option("--communities", args->communities,
+                  "C equal ranges of nodes whose edges mostly stay inside; C eigenvalues near 1 (walk)")
+      ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20))
+      ->capture_default_str();
+  app->add_option("--mixing", args->mixing,
+                  "community c (from 0) sends this times (c+1)/C of its hashed edges anywhere (walk)")
       ->check(CLI::Range(0.0, 1.0))
       ->capture_default_str();
   app->add_option("--spectrum", args->spectrum, "eigenvalues n, n-1, ..., 1 (linear) or 1, r, r^2, ... (geometric)")
@@ -57,7 +67,9 @@ Command make_generate_command(CLI::App& root) {
       "                  The damped mass stays at its node instead of jumping to every\n"
       "                  node, so A stays sparse; A remains column-stochastic, and 1 is\n"
       "                  its simple eigenvalue of largest modulus, with the stationary\n"
-      "                  distribution as eigenvector\n"
+      "                  distribution as eigenvector. With --communities C the nodes\n"
+      "                  form C groups that mostly link inside: C eigenvalues near 1\n"
+      "                  stand well apart from the rest\n"
       "  dense-spectrum  dense symmetric H*diag(lambda)*H, H a hashed Householder\n"
       "                  reflector, with eigenvalues set by --spectrum\n"
       "  hypercube       adjacency matrix of the hypercube graph Q_d; symmetric\n"
@@ -66,6 +78,7 @@ Command make_generate_command(CLI::App& root) {
       "  lodestone generate laplace2d --nx 400 --ny 290 plate.h5\n"
       "  mpirun -n 4 lodestone generate laplace1d --n 1000000 rod.h5\n"
       "  mpirun -n 4 lodestone generate walk --n 1000000 --degree 12 --seed 7 web.h5\n"
+      "  lodestone generate walk --n 2000000 --communities 4 --mixing 0.1 groups.h5\n"
       "  lodestone generate dense-spectrum --n 2000 --spectrum geometric --ratio 0.95 dense.h5\n"
       "  lodestone generate hypercube --dim 16 cube.h5");
   return {app, [args](MPI_Comm comm) -> Status {
@@ -83,7 +96,11 @@ Command make_generate_command(CLI::App& root) {
               o.n = a.n;
               o.degree = a.degree;
               o.damping = a.damping;
+              o.communities = a.communities;
+              o.mixing = a.mixing;
               o.seed = a.seed;
+              if (o.communities > o.n)
+                return Status::usage(fmt::format("--communities {} exceeds --n {}", o.communities, o.n));
               auto rows = io::generate_walk(comm, o);
               return io::write_csr_file(comm, a.out, a.group, a.n, false, rows);
             }

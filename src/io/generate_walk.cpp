@@ -16,6 +16,8 @@ namespace lodestone::io {
 namespace {
 // Keeps the walk's hash stream apart from other generators' with the same seed.
 constexpr std::uint64_t kWalkSalt = 0x77616c6b00000000ULL;
+// Draws whether an edge leaves its community (a stream apart from the targets').
+constexpr std::uint64_t kCommunitySalt = 0x636f6d6d00000000ULL;
 
 std::int64_t extra_edges(const WalkOptions& o, std::int64_t j) {
   const std::int64_t span = 2 * (std::max<std::int64_t>(o.degree, 1) - 1) + 1;
@@ -24,11 +26,26 @@ std::int64_t extra_edges(const WalkOptions& o, std::int64_t j) {
   return std::min(k, span - 1);
 }
 
+// Community c of C holds the nodes [c n / C, (c + 1) n / C).
+std::int64_t community_begin(const WalkOptions& o, std::int64_t c) {
+  return static_cast<std::int64_t>((static_cast<__int128>(c) * o.n) / o.communities);
+}
+
 std::int64_t target(const WalkOptions& o, std::int64_t j, std::int64_t m) {
-  const auto t = static_cast<std::int64_t>(
-      hashed_uniform(o.seed, static_cast<std::uint64_t>(j), kWalkSalt + 1 + static_cast<std::uint64_t>(m)) *
-      static_cast<double>(o.n));
-  return std::min(t, o.n - 1);
+  const double u =
+      hashed_uniform(o.seed, static_cast<std::uint64_t>(j), kWalkSalt + 1 + static_cast<std::uint64_t>(m));
+  std::int64_t lo = 0, size = o.n;
+  if (o.communities > 1) {
+    const auto c = static_cast<std::int64_t>((static_cast<__int128>(j) * o.communities) / o.n);
+    const double leave = o.mixing * static_cast<double>(c + 1) / static_cast<double>(o.communities);
+    const double v = hashed_uniform(o.seed, static_cast<std::uint64_t>(j), kCommunitySalt + static_cast<std::uint64_t>(m));
+    if (v >= leave) {
+      lo = community_begin(o, c);
+      size = community_begin(o, c + 1) - lo;
+    }
+  }
+  const auto t = static_cast<std::int64_t>(u * static_cast<double>(size));
+  return lo + std::min(t, size - 1);
 }
 }  // namespace
 

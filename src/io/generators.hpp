@@ -27,10 +27,19 @@ CsrRows generate_laplace2d(MPI_Comm comm, std::int64_t nx, std::int64_t ny);
 // with the simple, strictly dominant eigenvalue 1; its eigenvector is the
 // stationary distribution. The damped mass stays in place instead of being
 // spread over all nodes, which keeps A sparse.
+//
+// With communities C > 1 the nodes fall into C contiguous, equal ranges, and a
+// hashed edge of a node in community c (from 0) leads anywhere with probability
+// mixing * (c + 1) / C, else to a node of its own community. Such a walk has C
+// eigenvalues near 1, one per community and each different (the communities
+// leak at different rates), well apart from the rest of the spectrum. C = 1
+// gives exactly the matrix without communities.
 struct WalkOptions {
   std::int64_t n = 1000;
   std::int64_t degree = 8;
   double damping = 0.85;
+  std::int64_t communities = 1;
+  double mixing = 0.1;
   std::uint64_t seed = 1;
   // Entries a rank generates before all ranks exchange them.
   std::int64_t round_entries = std::int64_t{1} << 20;

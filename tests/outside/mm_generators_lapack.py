@@ -1,6 +1,6 @@
 """Checks of `lodestone generate` output read with h5py (Debian python3-h5py).
 
-  mm_generators_lapack.py DIR   checks DIR/{laplace2d,walk,dense_linear,dense_geometric,hypercube}.h5
+  mm_generators_lapack.py DIR   checks DIR/{laplace2d,walk,walk_communities,dense_linear,dense_geometric,hypercube}.h5
 
 References named beside each check: closed forms, and LAPACK through numpy
 (numpy.linalg.eigvalsh -> LAPACK syevd, numpy.linalg.eigvals -> LAPACK geev).
@@ -53,6 +53,17 @@ def main(directory):
     top = ev[np.argmax(np.abs(ev))]
     check(abs(top - 1.0) < 1e-10, f"walk dominant eigenvalue {top:.15g} = 1 (LAPACK geev)")
     check(mods[1] < 1 - 1e-6, f"walk second modulus {mods[1]:.6g} < 1: the dominant eigenvalue is unique")
+
+    # walk --n 600 --degree 6 --communities 3 --mixing 0.1: still column-stochastic, and
+    # three eigenvalues near 1 (one per community, each different) stand apart from the
+    # rest (numpy.linalg.eigvals, LAPACK geev).
+    a, sym, _ = read(directory, "walk_communities")
+    check(np.allclose(a.sum(axis=0), 1.0, rtol=0, atol=1e-13), "walk_communities columns sum to 1")
+    mods = np.sort(np.abs(np.linalg.eigvals(a)))[::-1]
+    check(abs(mods[0] - 1.0) < 1e-10 and mods[1] < 1 - 1e-3 and mods[2] < mods[1] - 1e-3,
+          f"walk_communities leading moduli {mods[:3]} distinct, the first 1 (LAPACK geev)")
+    check(mods[2] > 0.9 and mods[3] < 0.75 * mods[2],
+          f"walk_communities: third modulus {mods[2]:.4g} near 1, fourth {mods[3]:.4g} well below (LAPACK geev)")
 
     # dense-spectrum: eigenvalues per LAPACK (numpy.linalg.eigvalsh, LAPACK syevd).
     for name, want in (("dense_linear", np.arange(40, 0, -1, dtype=float)),

@@ -8,6 +8,7 @@ source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 declare -A kinds=(
   [laplace2d]="laplace2d --nx 7 --ny 5"
   [walk]="walk --n 300 --degree 6 --damping 0.85 --seed 4"
+  [walk_communities]="walk --n 600 --degree 6 --communities 3 --mixing 0.1 --seed 4"
   [dense_linear]="dense-spectrum --n 40 --spectrum linear --seed 2"
   [dense_geometric]="dense-spectrum --n 40 --spectrum geometric --ratio 0.8 --seed 3"
   [hypercube]="hypercube --dim 6"
@@ -15,7 +16,7 @@ declare -A kinds=(
 for name in "${!kinds[@]}"; do
   prints=()
   counts="1 2 3 4"
-  case "$name" in laplace2d | dense_linear) counts=3 ;; esac
+  case "$name" in laplace2d | dense_linear) counts=3 ;; walk_communities) counts="1 3" ;; esac
   for p in $counts; do
     out="$work/$name.np$p.h5"
     # shellcheck disable=SC2086

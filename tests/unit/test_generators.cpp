@@ -102,6 +102,57 @@ TEST(Generators, WalkSameOnEveryRankCount) {
       << "the seed must matter";
 }
 
+TEST(Generators, WalkCommunitiesSameOnEveryRankCount) {
+  io::WalkOptions o;
+  o.n = 103;
+  o.seed = 5;
+  o.communities = 4;
+  o.mixing = 0.2;
+  o.round_entries = 11;
+  expect_same_on_every_rank_count([&](MPI_Comm c) { return fingerprint(c, io::generate_walk(c, o), o.n); },
+                                  "walk with communities");
+  MPI_Comm w = MPI_COMM_WORLD;
+  io::WalkOptions plain = o;
+  plain.communities = 1;
+  EXPECT_NE(fingerprint(w, io::generate_walk(w, o), o.n), fingerprint(w, io::generate_walk(w, plain), o.n))
+      << "communities must change the graph";
+  io::WalkOptions other_mixing = plain;
+  other_mixing.mixing = 0.9;
+  EXPECT_EQ(fingerprint(w, io::generate_walk(w, plain), o.n), fingerprint(w, io::generate_walk(w, other_mixing), o.n))
+      << "with one community the mixing has nowhere to lead: the plain walk";
+}
+
+TEST(Generators, WalkCommunitiesKeepMostEdgesInside) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  io::WalkOptions o;
+  o.n = 400;
+  o.degree = 8;
+  o.seed = 2;
+  o.communities = 4;
+  o.mixing = 0.2;
+  auto rows = io::generate_walk(comm, o);
+  // Hashed edges (not the ring, not the diagonal) that cross between communities, per source community.
+  std::vector<double> crossing(4, 0.0), total(4, 0.0);
+  for (std::int64_t i = 0; i < rows.local_rows(); ++i) {
+    const std::int64_t row = rows.row_begin + i;
+    for (auto k = rows.offsets[i]; k < rows.offsets[i + 1]; ++k) {
+      const std::int64_t col = rows.columns[k];
+      if (row == col || row == (col + 1) % o.n) continue;
+      const auto c = static_cast<std::size_t>(col / 100);
+      total[c] += 1;
+      if (row / 100 != col / 100) crossing[c] += 1;
+    }
+  }
+  MPI_Allreduce(MPI_IN_PLACE, crossing.data(), 4, MPI_DOUBLE, MPI_SUM, comm);
+  MPI_Allreduce(MPI_IN_PLACE, total.data(), 4, MPI_DOUBLE, MPI_SUM, comm);
+  for (std::size_t c = 0; c < 4; ++c) {
+    // An edge leaves with probability 0.2 (c+1)/4 and then lands outside with probability 3/4.
+    const double expected = 0.2 * static_cast<double>(c + 1) / 4.0 * 0.75;
+    EXPECT_NEAR(crossing[c] / total[c], expected, 0.06) << "community " << c;
+  }
+  EXPECT_LT(crossing[0] / total[0], crossing[3] / total[3]) << "later communities leak more";
+}
+
 TEST(Generators, DenseSpectrumKeepsTraceAndFrobeniusNorm) {
   // Orthogonal similarity keeps trace = sum(lambda) and ||A||_F^2 = sum(lambda^2).
   MPI_Comm comm = MPI_COMM_WORLD;
