@@ -37,7 +37,7 @@ Status check_pair_structure(const SolveResult& r) {
         r.eigenvalues[static_cast<std::size_t>(j + 1)] != r.eigenvalues[static_cast<std::size_t>(j)])
       return Status::input(fmt::format("pair {} has the complex eigenvalue {} {:+}i, but place {} does not hold its "
                                        "conjugate (complex pairs take two neighbouring places)",
-                                       j, r.eigenvalues[static_cast<std::size_t>(j)], b, j + 1));
+                                       j + 1, r.eigenvalues[static_cast<std::size_t>(j)], b, j + 2));
     ++j;
   }
   return Status::ok();
@@ -221,7 +221,7 @@ Result<VerifyReport> verify_result(const Matrix& matrix, const SolveResult& give
     }
     p.passed = why.empty();
     if (!p.passed) {
-      if (rep.failed == 0) rep.first_failure = fmt::format("pair {}: {}", j, why);
+      if (rep.failed == 0) rep.first_failure = fmt::format("pair {}: {}", j + 1, why);
       ++rep.failed;
     }
   }
