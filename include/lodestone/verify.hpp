@@ -41,7 +41,8 @@ struct VerifyReport {
   double orthogonality_bound = 0;  // allowed |v_i . v_j| (symmetric)
   std::int64_t checked = 0;        // pairs checked (= the result's converged count)
   std::int64_t failed = 0;         // checked pairs outside a bound
-  std::string first_failure;       // one line about the first failing pair, empty if none
+  std::string first_failure;       // one line about the first failing pair ("pair 3: ...", numbered
+                                   // from 1 as every listing is; pairs[2] above), empty if none
   bool ok() const { return failed == 0; }
 };
 

@@ -51,6 +51,18 @@ checkpoint_every=1800s
 
 launcher=(mpirun -n "$ranks")
 if [ "$(id -u)" -eq 0 ]; then launcher+=(--allow-run-as-root); fi
+# OpenMPI starts at most one rank per core (cores, not hardware threads) unless told
+# to oversubscribe. With fewer cores here than planned ranks, oversubscribe and say so:
+# the run starts, slower than planned. Cores: the fewer of the CPUs this shell may
+# use (nproc) and the physical cores (lscpu); if neither answers, nothing is added.
+cores=$(nproc 2>/dev/null || echo 0)
+physical=$(lscpu -p=core,socket 2>/dev/null | grep -v '^#' | sort -u | wc -l)
+if [ "$physical" -gt 0 ] && { [ "$cores" -eq 0 ] || [ "$physical" -lt "$cores" ]; }; then cores=$physical; fi
+if [ "$cores" -gt 0 ] && [ "$ranks" -gt "$cores" ]; then
+  echo "lodestone job: the plan has $ranks ranks and this machine $cores cores; starting them with" \
+    "mpirun --oversubscribe (slower than planned; plan again with --cores-per-node $cores here)" >&2
+  launcher+=(--oversubscribe)
+fi
 solve_args=(solve "$matrix" --group "$group" --pairs "$pairs" --method "$method"
   --out "$result" --checkpoint "$checkpoint" --resume --checkpoint-every "$checkpoint_every")
 

@@ -37,43 +37,55 @@ Status check_pair_structure(const SolveResult& r) {
         r.eigenvalues[static_cast<std::size_t>(j + 1)] != r.eigenvalues[static_cast<std::size_t>(j)])
       return Status::input(fmt::format("pair {} has the complex eigenvalue {} {:+}i, but place {} does not hold its "
                                        "conjugate (complex pairs take two neighbouring places)",
-                                       j, r.eigenvalues[static_cast<std::size_t>(j)], b, j + 1));
+                                       j + 1, r.eigenvalues[static_cast<std::size_t>(j)], b, j + 2));
     ++j;
   }
   return Status::ok();
 }
 
-// R := A V - V Lambda, column by column (complex pairs mix two columns), then
-// each pair's residual and vector norm. Orthogonality from G = V^T V.
+// Each vector's norm and, for a symmetric matrix, G = V^T V first; then
+// R := A V - V Lambda, column by column (complex pairs mix two columns), and
+// each pair's residual.
 Status compute(Mat a, const SolveResult& r, bool symmetric, VerifyReport* out, std::vector<double>* gram) {
   MPI_Comm comm = PetscObjectComm(reinterpret_cast<PetscObject>(a));
   const std::int64_t k = r.pairs(), m = r.local_rows();
   std::vector<double> data = r.vectors;  // PETSc uses this storage in place
-  // For a matrix whose norm is near 1e+-300 the squares inside the column norms
-  // would overflow or underflow: R is then formed as A (cV) - (cV) Lambda with c
-  // a power of two that brings c ||A|| near 1 (exact), and its norms divided by c.
-  const double c = 1.0 / algebra::extreme_scale(r.norm_estimate);
-  std::vector<double> scaled;
-  if (c != 1.0) {
-    scaled = data;
-    for (double& x : scaled) x *= c;
-  }
-  MatGuard v, vs, w, g;
+  MatGuard v, w, g;
   LODESTONE_PETSC(MatCreateDense(comm, static_cast<PetscInt>(m), PETSC_DECIDE, static_cast<PetscInt>(r.rows),
                                  static_cast<PetscInt>(k), m > 0 ? data.data() : nullptr, &v.m));
-  if (c != 1.0)
-    LODESTONE_PETSC(MatCreateDense(comm, static_cast<PetscInt>(m), PETSC_DECIDE, static_cast<PetscInt>(r.rows),
-                                   static_cast<PetscInt>(k), m > 0 ? scaled.data() : nullptr, &vs.m));
-  LODESTONE_PETSC(MatMatMult(a, c != 1.0 ? vs.m : v.m, MAT_INITIAL_MATRIX, PETSC_DEFAULT, &w.m));
 
   std::vector<PetscReal> vnorm(static_cast<std::size_t>(k)), rnorm(static_cast<std::size_t>(k));
   LODESTONE_PETSC(MatGetColumnNorms(v.m, NORM_2, vnorm.data()));
+  if (symmetric && k > 1) {
+    // G = V^T V, distributed by rows; gathered whole (K x K is small) on every rank.
+    LODESTONE_PETSC(MatTransposeMatMult(v.m, v.m, MAT_INITIAL_MATRIX, PETSC_DEFAULT, &g.m));
+    PetscInt lo = 0, hi = 0, ldg = 0;
+    const PetscScalar* gv = nullptr;
+    LODESTONE_PETSC(MatGetOwnershipRange(g.m, &lo, &hi));
+    LODESTONE_PETSC(MatDenseGetLDA(g.m, &ldg));
+    LODESTONE_PETSC(MatDenseGetArrayRead(g.m, &gv));
+    std::vector<double> mine(static_cast<std::size_t>(k * k), 0.0);
+    for (PetscInt i = lo; i < hi; ++i)
+      for (std::int64_t j = 0; j < k; ++j) mine[static_cast<std::size_t>(i * k + j)] = gv[(i - lo) + j * ldg];
+    LODESTONE_PETSC(MatDenseRestoreArrayRead(g.m, &gv));
+    gram->assign(mine.size(), 0.0);
+    MPI_Allreduce(mine.data(), gram->data(), static_cast<int>(mine.size()), MPI_DOUBLE, MPI_SUM, comm);
+  }
+
+  // For a matrix whose norm is near 1e+-300 the squares inside the column norms
+  // of R would overflow or underflow: R is then formed as A (cV) - (cV) Lambda
+  // with c a power of two that brings c ||A|| near 1, and its norms divided by c.
+  // V is scaled in place, after its own norms and G above were taken from it, so
+  // no second copy of the block is needed and nothing has to be undone.
+  const double c = 1.0 / algebra::extreme_scale(r.norm_estimate);
+  if (c != 1.0) LODESTONE_PETSC(MatScale(v.m, c));
+  LODESTONE_PETSC(MatMatMult(a, v.m, MAT_INITIAL_MATRIX, PETSC_DEFAULT, &w.m));
   {
     PetscScalar* rw = nullptr;
     PetscInt ldw = 0;
     LODESTONE_PETSC(MatDenseGetLDA(w.m, &ldw));
     LODESTONE_PETSC(MatDenseGetArray(w.m, &rw));
-    const double* x = c != 1.0 ? scaled.data() : data.data();
+    const double* x = data.data();  // c V
     for (std::int64_t j = 0; j < k; ++j) {
       const double lam = r.eigenvalues[static_cast<std::size_t>(j)];
       const double b = r.eigenvalues_imag[static_cast<std::size_t>(j)];
@@ -109,22 +121,6 @@ Status compute(Mat a, const SolveResult& r, bool symmetric, VerifyReport* out, s
     const double norm = std::sqrt(norm2);
     p.residual = norm > 0 ? std::sqrt(res2) / norm / c : std::numeric_limits<double>::infinity();
     p.norm_error = std::abs(norm - 1.0);
-  }
-
-  if (symmetric && k > 1) {
-    // G = V^T V, distributed by rows; gathered whole (K x K is small) on every rank.
-    LODESTONE_PETSC(MatTransposeMatMult(v.m, v.m, MAT_INITIAL_MATRIX, PETSC_DEFAULT, &g.m));
-    PetscInt lo = 0, hi = 0, ldg = 0;
-    const PetscScalar* gv = nullptr;
-    LODESTONE_PETSC(MatGetOwnershipRange(g.m, &lo, &hi));
-    LODESTONE_PETSC(MatDenseGetLDA(g.m, &ldg));
-    LODESTONE_PETSC(MatDenseGetArrayRead(g.m, &gv));
-    std::vector<double> mine(static_cast<std::size_t>(k * k), 0.0);
-    for (PetscInt i = lo; i < hi; ++i)
-      for (std::int64_t j = 0; j < k; ++j) mine[static_cast<std::size_t>(i * k + j)] = gv[(i - lo) + j * ldg];
-    LODESTONE_PETSC(MatDenseRestoreArrayRead(g.m, &gv));
-    gram->assign(mine.size(), 0.0);
-    MPI_Allreduce(mine.data(), gram->data(), static_cast<int>(mine.size()), MPI_DOUBLE, MPI_SUM, comm);
   }
   return Status::ok();
 }
@@ -221,7 +217,7 @@ Result<VerifyReport> verify_result(const Matrix& matrix, const SolveResult& give
     }
     p.passed = why.empty();
     if (!p.passed) {
-      if (rep.failed == 0) rep.first_failure = fmt::format("pair {}: {}", j, why);
+      if (rep.failed == 0) rep.first_failure = fmt::format("pair {}: {}", j + 1, why);
       ++rep.failed;
     }
   }

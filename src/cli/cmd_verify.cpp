@@ -20,7 +20,7 @@ static std::string table(const VerifyReport& rep) {
                                 "stored res", "recomputed", "norm error", rep.symmetric ? "max |v.vj|" : "", "verdict");
   for (std::size_t j = 0; j < rep.pairs.size(); ++j) {
     const auto& p = rep.pairs[j];
-    out += fmt::format("{:>5}  {:<32}  {:>10.3e}  {:>10.3e}  {:>10.3e}  {:>10}  {}\n", j,
+    out += fmt::format("{:>5}  {:<32}  {:>10.3e}  {:>10.3e}  {:>10.3e}  {:>10}  {}\n", j + 1,
                        eigenvalue_text(p.eigenvalue, p.eigenvalue_imag), p.stored_residual, p.residual, p.norm_error,
                        rep.symmetric && (p.passed || p.verdict == "not orthogonal") ? fmt::format("{:.3e}", p.orthogonality) : "", p.verdict);
   }
@@ -75,7 +75,7 @@ Command make_verify_command(CLI::App& root) {
             const std::int64_t k = r->pairs();
             if (rep->checked < k)
               text += fmt::format("\nthe run converged {} of {} pairs; pairs {} to {} are shown but not checked\n",
-                                  rep->checked, k, rep->checked, k - 1);
+                                  rep->checked, k, rep->checked + 1, k);
             if (rep->ok())
               text += fmt::format("\nverified: all {} converged pair{} meet the tolerance\n", rep->checked,
                                   rep->checked == 1 ? "" : "s");

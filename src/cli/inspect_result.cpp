@@ -32,7 +32,7 @@ Status inspect_result(MPI_Comm comm, const std::string& path) {
   for (std::int64_t j = 0; j < h->pairs; ++j) {
     const auto i = static_cast<std::size_t>(j);
     const double ratio = limit > 0 ? h->residual_norms[i] / limit : NAN;
-    text += fmt::format("{:>5}  {:>24.15g}  {:>14.6g}  {:>10.3e}  {:>12.3g}  {}\n", j, h->eigenvalues[i],
+    text += fmt::format("{:>5}  {:>24.15g}  {:>14.6g}  {:>10.3e}  {:>12.3g}  {}\n", j + 1, h->eigenvalues[i],
                         h->eigenvalues_imag[i], h->residual_norms[i], ratio,
                         j < h->converged ? "converged" : "not converged");
   }

@@ -80,6 +80,21 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   s += "\n";
   s += "launcher=(mpirun -n \"$ranks\")\n";
   s += "if [ \"$(id -u)\" -eq 0 ]; then launcher+=(--allow-run-as-root); fi\n";
+  if (local) {
+    // A scheduler gives the job its slots; a workstation may have fewer cores than planned.
+    s += "# OpenMPI starts at most one rank per core (cores, not hardware threads) unless told\n";
+    s += "# to oversubscribe. With fewer cores here than planned ranks, oversubscribe and say so:\n";
+    s += "# the run starts, slower than planned. Cores: the fewer of the CPUs this shell may\n";
+    s += "# use (nproc) and the physical cores (lscpu); if neither answers, nothing is added.\n";
+    s += "cores=$(nproc 2>/dev/null || echo 0)\n";
+    s += "physical=$(lscpu -p=core,socket 2>/dev/null | grep -v '^#' | sort -u | wc -l)\n";
+    s += "if [ \"$physical\" -gt 0 ] && { [ \"$cores\" -eq 0 ] || [ \"$physical\" -lt \"$cores\" ]; }; then cores=$physical; fi\n";
+    s += "if [ \"$cores\" -gt 0 ] && [ \"$ranks\" -gt \"$cores\" ]; then\n";
+    s += "  echo \"lodestone job: the plan has $ranks ranks and this machine $cores cores; starting them with\" \\\n";
+    s += "    \"mpirun --oversubscribe (slower than planned; plan again with --cores-per-node $cores here)\" >&2\n";
+    s += "  launcher+=(--oversubscribe)\n";
+    s += "fi\n";
+  }
   s += "solve_args=(solve \"$matrix\" --group \"$group\" --pairs \"$pairs\" --method \"$method\"\n";
   s += "  --out \"$result\" --checkpoint \"$checkpoint\" --resume --checkpoint-every \"$checkpoint_every\")\n";
   if (time_budget > 0) s += fmt::format("solve_args+=(--time-budget {}s)\n", time_budget);

@@ -1,4 +1,4 @@
-// read_facts: a matrix file's metadata, for sizing (plan/matrix_facts.hpp).
+// open_matrix / read_facts: a matrix file's metadata, for sizing (plan/matrix_facts.hpp).
 #include "plan/matrix_facts.hpp"
 
 #include <fmt/format.h>
@@ -10,26 +10,31 @@
 
 namespace lodestone::plan {
 
-Result<MatrixFacts> read_facts(MPI_Comm comm, const std::string& path, const std::string& group) {
+Result<OpenMatrix> open_matrix(MPI_Comm comm, const std::string& path, const std::string& group) {
+  OpenMatrix m;
+  m.path = path;
+  m.group = group;
   auto file = h5::open_read(comm, path);
   if (!file) return file.status();
-  auto g = h5::open_group(file->get(), group, path);
+  m.file = std::move(*file);
+  auto g = h5::open_group(m.file.get(), group, path);
   LODESTONE_TRY(agree(comm, g.status()));
-  auto header = io::read_header(g->get(), path, group);
+  m.group_handle = std::move(*g);
+  auto header = io::read_header(m.group_handle.get(), path, group);
   LODESTONE_TRY(agree(comm, header.status()));
-  MatrixFacts f;
+  MatrixFacts& f = m.facts;
   f.layout = header->layout;
   f.rows = header->rows;
   f.symmetric = header->symmetric;
   if (f.layout == Layout::dense) {
     f.nnz = f.rows * f.rows;
-    return f;
+    return m;
   }
   Status s;
-  if (H5Lexists(g->get(), layout::kColumnIndices, H5P_DEFAULT) <= 0)
+  if (H5Lexists(m.group_handle.get(), layout::kColumnIndices, H5P_DEFAULT) <= 0)
     s = Status::input(fmt::format("{}: group '{}': missing dataset '{}'", path, group, layout::kColumnIndices));
   if (s) {
-    h5::Handle col(H5Dopen2(g->get(), layout::kColumnIndices, H5P_DEFAULT));
+    h5::Handle col(H5Dopen2(m.group_handle.get(), layout::kColumnIndices, H5P_DEFAULT));
     auto shape = h5::dataset_shape(col.get());
     if (!shape || shape->dims.size() != 1)
       s = Status::input(fmt::format("{}: dataset '{}/column_indices' must be one-dimensional", path, group));
@@ -39,7 +44,13 @@ Result<MatrixFacts> read_facts(MPI_Comm comm, const std::string& path, const std
     }
   }
   LODESTONE_TRY(agree(comm, s));
-  return f;
+  return m;
+}
+
+Result<MatrixFacts> read_facts(MPI_Comm comm, const std::string& path, const std::string& group) {
+  auto m = open_matrix(comm, path, group);
+  if (!m) return m.status();
+  return m->facts;
 }
 
 }  // namespace lodestone::plan

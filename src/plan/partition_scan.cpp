@@ -7,7 +7,6 @@
 
 #include "io/h5.hpp"
 #include "io/layout.hpp"
-#include "io/matrix_reader.hpp"
 #include "io/partition.hpp"
 #include "support/collective.hpp"
 
@@ -134,34 +133,23 @@ PartitionStats dense_partition(std::int64_t n, int parts) {
   return st;
 }
 
-Result<std::vector<PartitionStats>> scan_partitions(MPI_Comm comm, const std::string& path, const std::string& group,
+Result<std::vector<PartitionStats>> scan_partitions(MPI_Comm comm, const OpenMatrix& matrix,
                                                     const std::vector<int>& parts, std::int64_t chunk_rows) {
-  auto file = h5::open_read(comm, path);
-  if (!file) return file.status();
-  auto g = h5::open_group(file->get(), group, path);
-  LODESTONE_TRY(agree(comm, g.status()));
-  auto header = io::read_header(g->get(), path, group);
-  LODESTONE_TRY(agree(comm, header.status()));
-  const std::int64_t n = header->rows;
+  const std::string& path = matrix.path;
+  const std::string& group = matrix.group;
+  const std::int64_t n = matrix.facts.rows;
+  const std::int64_t nnz = matrix.facts.nnz;  // the length of column_indices, checked by open_matrix
+  const hid_t g = matrix.group_handle.get();
   Status s;
-  if (header->layout != Layout::csr) s = Status::input(fmt::format("{}: group '{}' is not a CSR matrix", path, group));
-  h5::Handle off, col;
-  std::int64_t nnz = 0;
+  if (matrix.facts.layout != Layout::csr) s = Status::input(fmt::format("{}: group '{}' is not a CSR matrix", path, group));
+  else if (H5Lexists(g, layout::kRowOffsets, H5P_DEFAULT) <= 0)
+    s = Status::input(fmt::format("{}: group '{}': missing dataset '{}'", path, group, layout::kRowOffsets));
+  h5::Handle off;
   if (s) {
-    for (const char* name : {layout::kRowOffsets, layout::kColumnIndices})
-      if (s && H5Lexists(g->get(), name, H5P_DEFAULT) <= 0)
-        s = Status::input(fmt::format("{}: group '{}': missing dataset '{}'", path, group, name));
-  }
-  if (s) {
-    off = h5::Handle(H5Dopen2(g->get(), layout::kRowOffsets, H5P_DEFAULT));
-    col = h5::Handle(H5Dopen2(g->get(), layout::kColumnIndices, H5P_DEFAULT));
+    off = h5::Handle(H5Dopen2(g, layout::kRowOffsets, H5P_DEFAULT));
     auto so = h5::dataset_shape(off.get());
-    auto sc = h5::dataset_shape(col.get());
     if (!so || so->dims.size() != 1 || so->dims[0] != n + 1)
       s = Status::input(fmt::format("{}: dataset '{}/row_offsets' must have length rows+1 = {}", path, group, n + 1));
-    else if (!sc || sc->dims.size() != 1)
-      s = Status::input(fmt::format("{}: dataset '{}/column_indices' must be one-dimensional", path, group));
-    else nnz = sc->dims[0];
   }
   LODESTONE_TRY(agree(comm, s));
 

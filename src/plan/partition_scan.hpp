@@ -22,6 +22,7 @@
 #include <vector>
 
 #include "lodestone/status.hpp"
+#include "plan/matrix_facts.hpp"
 
 namespace lodestone::plan {
 
@@ -72,10 +73,11 @@ class BoundaryScanner {
 std::vector<PartitionStats> stitch(const std::vector<int>& parts,
                                    const std::vector<std::vector<BoundaryScanner::Local>>& slices);
 
-// Collective over comm: reads `row_offsets` of the CSR matrix at `group` in
-// `path` in chunks of `chunk_rows` and returns the stats of each candidate.
-// Candidates larger than n are allowed (some parts are then empty).
-Result<std::vector<PartitionStats>> scan_partitions(MPI_Comm comm, const std::string& path, const std::string& group,
+// Collective over comm: reads `row_offsets` of the CSR matrix opened by
+// open_matrix (its header and nnz already read there) in chunks of `chunk_rows`
+// and returns the stats of each candidate. Candidates larger than n are allowed
+// (some parts are then empty).
+Result<std::vector<PartitionStats>> scan_partitions(MPI_Comm comm, const OpenMatrix& matrix,
                                                     const std::vector<int>& parts,
                                                     std::int64_t chunk_rows = std::int64_t{1} << 20);
 

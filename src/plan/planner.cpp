@@ -34,7 +34,6 @@ using plan::MachineModel;
 using plan::MethodShape;
 using plan::PartitionStats;
 using plan::MatrixFacts;
-using plan::read_facts;
 
 Result<std::string> read_text_file(MPI_Comm comm, const std::string& path) {
   Status s;
@@ -195,9 +194,10 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     if (!text) return text.status();
     LODESTONE_TRY(plan::apply_calibration(r.calibration_path, *text, m));
   }
-  auto facts = read_facts(comm, r.matrix_path, r.group);
-  if (!facts) return facts.status();
-  const MatrixFacts& f = *facts;
+  // One open and one header read: the facts now, row_offsets later from the same open group.
+  auto opened = plan::open_matrix(comm, r.matrix_path, r.group);
+  if (!opened) return opened.status();
+  const MatrixFacts& f = opened->facts;
   const bool dense = f.layout == Layout::dense;
   m.file_index_bytes = f.file_index_bytes;
 
@@ -259,7 +259,7 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
   if (dense) {
     for (int q : parts) stats.push_back(plan::dense_partition(f.rows, q));
   } else {
-    auto scanned = plan::scan_partitions(comm, r.matrix_path, r.group, parts);
+    auto scanned = plan::scan_partitions(comm, *opened, parts);
     if (!scanned) return scanned.status();
     stats = std::move(*scanned);
   }

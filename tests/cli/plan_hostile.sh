@@ -5,7 +5,9 @@
 # nothing in them runs. The generated scripts pass bash -n and shellcheck, and are
 # then run with stand-in mpirun/scontrol/qsub commands that record their arguments:
 # the paths arrive intact, no marker file appears, and the exit statuses 0, 3, 1
-# and a forwarded USR1 lead to the documented actions.
+# and a forwarded USR1 lead to the documented actions. With stand-in nproc and
+# lscpu, the local script oversubscribes exactly when the planned ranks exceed the
+# cores it finds.
 # The hostile values below are single-quoted on purpose: they must stay literal.
 # shellcheck disable=SC2016
 source "$LODESTONE_SOURCE/tests/support/script_env.bash"
@@ -65,6 +67,19 @@ if [ "${STUB_WAIT_FOR_USR1:-0}" = 1 ]; then
   exit 99
 fi
 exit "${STUB_STATUS:-0}"
+STUB
+# Stand-ins for the core count the local script reads: STUB_NPROC CPUs usable and
+# STUB_CORES physical cores (each "fail" for a command that does not answer).
+cat > bin/nproc <<'STUB'
+#!/usr/bin/env bash
+[ "${STUB_NPROC:-64}" != fail ] || exit 1
+echo "${STUB_NPROC:-64}"
+STUB
+cat > bin/lscpu <<'STUB'
+#!/usr/bin/env bash
+[ "${STUB_CORES:-64}" != fail ] || exit 1
+echo '# Core,Socket'
+for ((c = 0; c < ${STUB_CORES:-64}; c++)); do echo "$c,0"; echo "$c,0"; done  # two threads per core
 STUB
 for cmd in scontrol qsub; do
   printf '#!/usr/bin/env bash\nprintf "%%s\\n" "$@" > "$STUB_DIR/%s.args"\necho 4242.server\n' "$cmd" > "bin/$cmd"
@@ -143,5 +158,29 @@ set -e
 [ "$rc" -eq 0 ] || { cat run.out; fail "after USR1: exit $rc"; }
 [ "$(tr '\n' ' ' < scontrol.args)" = "requeue 77 " ] || fail "after USR1: no requeue"
 grep -qF "USR1 received" run.out || fail "after USR1: the log does not say so"
+
+# The local script oversubscribes only when the planned ranks exceed the cores it
+# finds: CPUs it may use (nproc) or physical cores (lscpu), whichever is fewer.
+script="$outdir/job \$(touch PWNED1).local"
+ranks="$(sed -n 's/^ranks=//p' "$script")"
+[ "$ranks" -ge 2 ] || fail "the local plan has $ranks ranks; the cases below need 2 or more"
+for case in "64 64 no" "$ranks $ranks no" "$((ranks - 1)) 64 yes" "64 $((ranks - 1)) yes" "fail $((ranks - 1)) yes" \
+  "$((ranks - 1)) fail yes" "fail fail no"; do
+  read -r nproc cores want <<<"$case"
+  rm -f mpirun.args
+  set +e
+  STUB_NPROC="$nproc" STUB_CORES="$cores" STUB_STATUS=0 PATH="$work/bin:$PATH" timeout 30 bash "$script" >run.out 2>&1
+  rc=$?
+  set -e
+  [ "$rc" -eq 0 ] || { cat run.out; fail "local script with nproc $nproc, $cores cores: exit $rc"; }
+  got=no
+  if grep -qxF -- --oversubscribe mpirun.args; then got=yes; fi
+  [ "$got" = "$want" ] || { cat run.out mpirun.args; fail "nproc $nproc, $cores cores, $ranks ranks: --oversubscribe $got, expected $want"; }
+  if [ "$want" = yes ]; then
+    grep -qF "the plan has $ranks ranks and this machine $((ranks - 1)) cores" run.out || { cat run.out; fail "no note on oversubscribing"; }
+  elif grep -qF -- "--oversubscribe" run.out; then
+    cat run.out; fail "nproc $nproc, $cores cores: a note on oversubscribing without it"
+  fi
+done
 marker_check "at the end"
 echo "plan_hostile: ok"

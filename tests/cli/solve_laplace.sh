@@ -53,11 +53,25 @@ done
 
 # Budget: exit 4, and the file holds what converged.
 expect 4 "matvec budget (60) ran out" run 2 "$LODESTONE" solve "$tmp/plate.h5" --pairs 6 --method block --max-matvecs 60 --out "$tmp/budget.h5"
+cp "$tmp/out" "$tmp/solve.out"
 [ -f "$tmp/budget.h5" ] || fail "no results file after the budget ran out"
 expect 0 "" run 1 "$LODESTONE" verify "$tmp/plate.h5" "$tmp/budget.h5"
 # The single-vector method stopped by its budget writes what it has too.
 expect 4 "matvec budget (30) ran out" run 2 "$LODESTONE" solve "$tmp/plate.h5" --pairs 3 --method power --max-matvecs 30 --out "$tmp/budget-power.h5"
 [ -f "$tmp/budget-power.h5" ] || fail "no results file after the power method's budget ran out"
+
+# Every listing numbers pairs from 1 (solve's closing table, inspect, verify), on the
+# budget run's file, which also has pairs that did not converge.
+listed() { awk '/^ +[0-9]+  / {print $1}' "$1" | paste -sd' '; }
+run 1 "$LODESTONE" inspect "$tmp/budget.h5" >"$tmp/inspect.out"
+run 2 "$LODESTONE" verify "$tmp/plate.h5" "$tmp/budget.h5" >"$tmp/verify.out"
+for f in solve inspect verify; do
+  [ "$(listed "$tmp/$f.out")" = "1 2 3 4 5 6" ] || { cat "$tmp/$f.out" >&2; fail "$f does not number the pairs 1 to 6"; }
+done
+c="$(awk '/^pairs/ {print $4}' "$tmp/inspect.out")"
+[ "$c" -lt 6 ] || fail "the budget run converged all 6 pairs; the not-checked line is not exercised"
+grep -q "^the run converged $c of 6 pairs; pairs $((c + 1)) to 6 are shown but not checked$" "$tmp/verify.out" \
+  || { cat "$tmp/verify.out" >&2; fail "verify's not-checked line"; }
 
 # --quiet prints nothing on success.
 run 1 "$LODESTONE" solve "$tmp/plate.h5" --pairs 2 --quiet --out "$tmp/q.h5" >"$tmp/q.out" 2>&1

@@ -19,10 +19,14 @@ grep -q "^matrix *45 rows, fingerprint $fp$" "$tmp/out" || fail "fingerprint lin
 grep -q "ranks" "$tmp/out" || fail "no ranks"
 [ "$(grep -cE '^ +[0-9]+ .*  converged$' "$tmp/out")" -eq "$k" ] || fail "expected $k converged rows"
 [ "$(grep -c '^result' "$tmp/out")" -eq 1 ] || fail "printed more than once"
-# Pair 1 is the second largest eigenvalue, j = n - 1.
-want="$(awk -v n="$n" 'BEGIN { printf "%.12f", 2 - 2 * cos((n - 1) * atan2(0, -1) / (n + 1)) }')"
-got="$(awk '$1 == "1" && $NF == "converged" { printf "%.12f", $2 }' "$tmp/out")"
-[ "$want" = "$got" ] || fail "pair 1 eigenvalue $got, expected $want"
+# Pairs are numbered from 1: pair 1 is the largest eigenvalue (j = n), pair 2 the
+# second largest (j = n - 1), and there is no pair 0.
+for pair in 1 2; do
+  want="$(awk -v n="$n" -v j=$((n + 1 - pair)) 'BEGIN { printf "%.12f", 2 - 2 * cos(j * atan2(0, -1) / (n + 1)) }')"
+  got="$(awk -v p="$pair" '$1 == p && $NF == "converged" { printf "%.12f", $2 }' "$tmp/out")"
+  [ "$want" = "$got" ] || fail "pair $pair eigenvalue $got, expected $want"
+done
+! grep -qE '^ +0  ' "$tmp/out" || fail "a pair numbered 0"
 
 # The matrix branch is unchanged.
 run 1 "$LODESTONE" inspect "$tmp/rod.h5" >"$tmp/out"

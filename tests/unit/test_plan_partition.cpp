@@ -129,7 +129,9 @@ TEST(PlanPartition, FileScanMatchesTheReadersSplit) {
   ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", n, false, rows).is_ok());
 
   std::vector<int> parts{1, 2, 3, 4, 6, 7, 16, size};
-  auto got = plan::scan_partitions(comm, path, "/matrix", parts, 7);
+  auto opened = plan::open_matrix(comm, path, "/matrix");
+  ASSERT_TRUE(opened.is_ok()) << opened.status().message();
+  auto got = plan::scan_partitions(comm, *opened, parts, 7);
   ASSERT_TRUE(got.is_ok()) << got.status().message();
 
   // The reader's own split at this rank count: the heaviest rank's nonzeros.
@@ -170,7 +172,9 @@ TEST(PlanPartition, BadOffsetsAreRefusedOnEveryRank) {
     H5Sclose(ms), H5Sclose(fs), H5Dclose(d), H5Fclose(f);
   }
   MPI_Barrier(comm);
-  auto got = plan::scan_partitions(comm, path, "/matrix", {1, 2, 3}, 4);
+  auto opened = plan::open_matrix(comm, path, "/matrix");
+  ASSERT_TRUE(opened.is_ok()) << opened.status().message();
+  auto got = plan::scan_partitions(comm, *opened, {1, 2, 3}, 4);
   ASSERT_FALSE(got.is_ok());
   EXPECT_NE(got.status().message().find("row_offsets"), std::string::npos) << got.status().message();
 }

@@ -109,6 +109,24 @@ TEST(PlanScript, LocalScript) {
   EXPECT_EQ(s->find("#PBS"), std::string::npos);
   EXPECT_EQ(s->find("--time-budget"), std::string::npos);
   EXPECT_NE(s->find("fi' INT\n"), std::string::npos);
+  // Oversubscribes only when the ranks exceed the cores found at run time, before the launch
+  // (tests/cli/plan_hostile.sh runs it with stand-in core counts).
+  const auto check = s->find("if [ \"$cores\" -gt 0 ] && [ \"$ranks\" -gt \"$cores\" ]; then\n");
+  const auto add = s->find("\n  launcher+=(--oversubscribe)\n");
+  ASSERT_NE(check, std::string::npos);
+  ASSERT_NE(add, std::string::npos);
+  EXPECT_LT(check, add);
+  EXPECT_LT(add, s->find("\"${launcher[@]}\""));
+  EXPECT_NE(s->find("cores=$(nproc"), std::string::npos);
+}
+
+TEST(PlanScript, BatchScriptsLeaveSlotsToTheScheduler) {
+  for (Scheduler sch : {Scheduler::slurm, Scheduler::pbs}) {
+    auto s = job_script(sample(sch), options());
+    ASSERT_TRUE(s.is_ok()) << s.status().message();
+    EXPECT_EQ(s->find("--oversubscribe"), std::string::npos) << scheduler_name(sch);
+    EXPECT_EQ(s->find("nproc"), std::string::npos) << scheduler_name(sch);
+  }
 }
 
 TEST(PlanScript, HostileNamesAreRefused) {

@@ -71,10 +71,11 @@ TEST(Verify, PerturbedVectorFails) {
   EXPECT_EQ(rep->failed, 1);
   EXPECT_EQ(rep->pairs[2].verdict, "residual too large");
   // Pair 2 now leans 1e-3 towards pair 3, but the blame stays with pair 2: the
-  // intact pairs are judged orthogonal among themselves.
+  // intact pairs are judged orthogonal among themselves. The message numbers
+  // pairs from 1, as every listing does: index 2 is "pair 3".
   EXPECT_EQ(rep->pairs[3].verdict, "ok");
   EXPECT_LT(rep->pairs[3].orthogonality, 1e-13);
-  EXPECT_NE(rep->first_failure.find("pair 2"), std::string::npos) << rep->first_failure;
+  EXPECT_EQ(rep->first_failure.rfind("pair 3: ", 0), 0u) << rep->first_failure;
   EXPECT_TRUE(rep->pairs[1].passed);
 }
 
@@ -190,6 +191,68 @@ TEST(Verify, ComplexPairsOfTheCyclicShift) {
   auto bad = verify_result(*a, lone);
   ASSERT_FALSE(bad.is_ok());
   EXPECT_NE(bad.status().message().find("conjugate"), std::string::npos) << bad.status().message();
+}
+
+TEST(Verify, ExtremeScalesKeepNormsAndOrthogonality) {
+  // D = scale * diag(1, ..., n) / n near 1e+300 and 1e-300: the squares inside
+  // column norms of A V would overflow or underflow, so verify forms the residual
+  // from a scaled V; the vectors' own norms and V^T V must still come from V.
+  // Pairs: e_{n-1}; v = (e_{n-2} + delta e_0) / sqrt(1 + delta^2) with eigenvalue
+  // d_{n-2}, whose residual is delta |d_0 - d_{n-2}| / sqrt(1 + delta^2); and e_0,
+  // whose inner product with v is delta / sqrt(1 + delta^2) (closed forms).
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::int64_t n = 10;
+  const double delta = 1.0 / 1024;
+  const double shrink = 1.0 / std::sqrt(1.0 + delta * delta);
+  for (double scale : {1e300, 1e-300}) {
+    SCOPED_TRACE(scale);
+    auto d = [&](std::int64_t i) { return scale * static_cast<double>(i + 1) / static_cast<double>(n); };
+    RowRange mine = even_split(n, comm_rank(comm), comm_size(comm));
+    io::CsrRows rows;
+    rows.row_begin = mine.begin;
+    for (std::int64_t i = mine.begin; i < mine.end; ++i) {
+      rows.columns.push_back(i);
+      rows.values.push_back(d(i));
+      rows.offsets.push_back(static_cast<std::int64_t>(rows.columns.size()));
+    }
+    std::string path = test::temp_path(comm, "verify-extreme.h5");
+    ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", n, true, rows).is_ok());
+    auto a = Matrix::load(comm, path);
+    ASSERT_TRUE(a.is_ok()) << a.status().message();
+    const auto& info = a->info();
+    SolveResult r;
+    r.rows = n;
+    r.row_begin = info.row_begin;
+    r.row_end = info.row_end;
+    r.matrix_fingerprint = info.fingerprint;
+    r.tolerance = 1e-2;  // loose, so that v passes its residual and is judged for orthogonality
+    r.norm_estimate = scale;
+    auto add = [&](double lam, std::int64_t i, std::int64_t mixed) {
+      r.eigenvalues.push_back(lam);
+      r.eigenvalues_imag.push_back(0.0);
+      for (std::int64_t j = r.row_begin; j < r.row_end; ++j)
+        r.vectors.push_back(mixed < 0 ? (j == i ? 1.0 : 0.0) : (j == i ? shrink : j == mixed ? delta * shrink : 0.0));
+    };
+    add(d(n - 1), n - 1, -1);
+    add(d(n - 2), n - 2, 0);
+    add(d(0), 0, -1);
+    r.residual_norms.assign(3, 0.0);
+    r.converged = 3;
+    auto rep = verify_result(*a, r);
+    ASSERT_TRUE(rep.is_ok()) << rep.status().message();
+    ASSERT_EQ(rep->pairs.size(), 3u);
+    EXPECT_LE(rep->pairs[0].residual, 1e-14 * scale);
+    const double want = delta * std::abs(d(0) - d(n - 2)) * shrink;
+    EXPECT_NEAR(rep->pairs[1].residual, want, 1e-12 * want);
+    EXPECT_LE(rep->pairs[2].residual, 1e-14 * scale);
+    for (const auto& p : rep->pairs) EXPECT_LT(p.norm_error, 1e-15);
+    EXPECT_EQ(rep->pairs[0].verdict, "ok");
+    EXPECT_EQ(rep->pairs[0].orthogonality, 0.0);
+    EXPECT_NEAR(rep->pairs[1].orthogonality, delta * shrink, 1e-15);
+    EXPECT_NEAR(rep->pairs[2].orthogonality, delta * shrink, 1e-15);
+    EXPECT_EQ(rep->pairs[1].verdict, "not orthogonal");
+    EXPECT_EQ(rep->first_failure.rfind("pair 2: ", 0), 0u) << rep->first_failure;
+  }
 }
 
 TEST(Verify, DenseLayoutMatrix) {
