@@ -72,7 +72,14 @@ MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool de
   const double vrows = static_cast<double>(std::max(part.max_rows, part.heaviest_rows));
   // Values, column indices and three index arrays per row (row pointers, lengths, diagonal/off-diagonal split).
   out.matrix = dense ? 8.0 * rows * static_cast<double>(n) : nnz * (8.0 + m.index_bytes) + rows * 3.0 * m.index_bytes;
-  out.vectors = 8.0 * vrows * static_cast<double>(s.blocks_held * s.block);
+  // Working blocks, or at the end, when the pairs are extracted, X and A X with three
+  // K-wide blocks beside them: the eigenvectors, their product with A (the certified
+  // residuals) and the copy in the reported order. For power (one vector) and block
+  // the end is the larger: a 2M-row walk with power, K = 4, peaked there at 1.6x the
+  // working-block figure.
+  const double working = static_cast<double>(s.blocks_held * s.block);
+  const double finishing = 2.0 * static_cast<double>(s.block) + 3.0 * static_cast<double>(s.pairs);
+  out.vectors = 8.0 * vrows * std::max(working, finishing);
   out.locked = 8.0 * vrows * static_cast<double>(s.pairs);
   // Ghost values of one block product are received into one buffer and the rows others need are
   // packed into another of about the same size: two buffers of b values per ghost row, and its index.
