@@ -159,16 +159,17 @@ def parse_log_view(path):
     for line in text.splitlines():
         parts = line.split()
         if len(parts) > 4 and parts[0] in ("MatMatMultNum", "MatProductNumeric", "MatMult", "MatMatMult",
-                                           "MatProductSymbolic", "MatMatMultSym"):
+                                           "MatProductSymbolic", "MatMatMultSym", "LdsDenseBlockProd"):
             try:
                 events[parts[0]] = (int(parts[1]), float(parts[3]))  # count (max), time (max)
             except ValueError:
                 pass
     # The numeric phase of the block product (PETSc 3.18 logs MatMatMult's as MatMatMultNum, or
-    # MatProductNumeric in other versions), plus plain MatMult where single vectors are multiplied.
+    # MatProductNumeric in other versions), plus plain MatMult where single vectors are multiplied,
+    # plus Lodestone's own dense product on more than one rank (LdsDenseBlockProd, algebra/operator.cpp).
     seconds = 0.0
     calls = 0
-    for name in ("MatMatMultNum" if "MatMatMultNum" in events else "MatProductNumeric", "MatMult"):
+    for name in ("MatMatMultNum" if "MatMatMultNum" in events else "MatProductNumeric", "MatMult", "LdsDenseBlockProd"):
         if name in events:
             calls += events[name][0]
             seconds += events[name][1]

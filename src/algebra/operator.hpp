@@ -7,6 +7,7 @@
 #include <petscmat.h>
 
 #include <cstdint>
+#include <vector>
 
 #include "algebra/block.hpp"
 #include "lodestone/status.hpp"
@@ -22,14 +23,25 @@ class Operator {
 
   Mat mat() const { return a_; }
   // Collective. Y = A X. X and Y must have the same column count. The product
-  // structure is set up once per (column count) and reused for every call.
+  // structure is set up once per (column count) and reused for every call. A
+  // dense matrix on more than one rank takes apply_dense's path instead.
   Status apply(const Block& x, Block& y);
   std::int64_t matvecs() const { return matvecs_; }
   void set_matvecs(std::int64_t m) { matvecs_ = m; }
 
  private:
+  // A dense (MPIDENSE) matrix on p > 1 ranks: PETSc 3.18 multiplies it by a dense
+  // block one column at a time (a matrix-vector product and a broadcast per
+  // column). Every rank needs all of X for its own rows anyway, so X is gathered
+  // once per product (n x b values: b of the rank's own matrix rows' length) and
+  // the local rows multiply it with one BLAS-3 product per owning rank's piece.
+  Status apply_dense(const Block& x, Block& y);
+
   Mat a_ = nullptr;
   std::int64_t matvecs_ = 0;
+  int dense_path_ = -1;               // unknown until the first product; then 0 or 1
+  std::vector<double> gathered_;      // X from every rank, rank by rank (each piece m_r x b)
+  std::vector<int> counts_, displs_;  // of the gather, in values
 };
 
 // Collective. sqrt(||A||_1 * ||A||_inf): an upper bound on ||A||_2 that costs

@@ -77,9 +77,11 @@ void expect_pairs(const Matrix& m, const SolveResult& r, const std::vector<doubl
   const auto g = test::vector_gram(MPI_COMM_WORLD, r);
   const std::int64_t k = r.pairs();
   for (std::int64_t a = 0; a < k; ++a)
-    for (std::int64_t b = 0; b < k; ++b)
-      if (a == b || orthonormal)
+    for (std::int64_t b = 0; b < k; ++b) {
+      if (a == b || orthonormal) {
         EXPECT_NEAR(g[static_cast<std::size_t>(a * k + b)], a == b ? 1.0 : 0.0, 1e-8) << "Gram entry " << a << "," << b;
+      }
+    }
 }
 
 Result<SolveResult> run(const Matrix& m, std::int64_t k, const std::string& method, const std::string& select,
