@@ -26,9 +26,10 @@ std::int64_t extra_edges(const WalkOptions& o, std::int64_t j) {
   return std::min(k, span - 1);
 }
 
-// Community c of C holds the nodes [c n / C, (c + 1) n / C).
+// Community c of C holds the nodes j with floor(j C / n) = c, i.e. j from
+// ceil(c n / C) up to (not including) ceil((c + 1) n / C).
 std::int64_t community_begin(const WalkOptions& o, std::int64_t c) {
-  return static_cast<std::int64_t>((static_cast<__int128>(c) * o.n) / o.communities);
+  return static_cast<std::int64_t>((static_cast<__int128>(c) * o.n + o.communities - 1) / o.communities);
 }
 
 std::int64_t target(const WalkOptions& o, std::int64_t j, std::int64_t m) {

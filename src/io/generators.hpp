@@ -28,7 +28,8 @@ CsrRows generate_laplace2d(MPI_Comm comm, std::int64_t nx, std::int64_t ny);
 // stationary distribution. The damped mass stays in place instead of being
 // spread over all nodes, which keeps A sparse.
 //
-// With communities C > 1 the nodes fall into C contiguous, equal ranges, and a
+// With communities C > 1 the nodes fall into C contiguous ranges of equal size
+// (within one node: node j is in community floor(j C / n)), and a
 // hashed edge of a node in community c (from 0) leads anywhere with probability
 // mixing * (c + 1) / C, else to a node of its own community. Such a walk has C
 // eigenvalues near 1, one per community and each different (the communities

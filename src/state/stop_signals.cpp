@@ -29,14 +29,27 @@ extern "C" void on_stop_signal(int sig) {
 
 }  // namespace
 
-void install_stop_handlers() {
-  if (g_installed) return;
+namespace {
+struct sigaction stop_action() {
   struct sigaction sa {};
   sa.sa_handler = on_stop_signal;
   sigemptyset(&sa.sa_mask);
   sa.sa_flags = SA_RESTART;  // system calls resume; the flag is looked at between iterations
+  return sa;
+}
+}  // namespace
+
+void install_stop_handlers() {
+  if (g_installed) return;
+  const struct sigaction sa = stop_action();
   for (int k = 0; k < 4; ++k) sigaction(kSignals[k], &sa, &g_saved[k]);
   g_installed = true;
+}
+
+void reinstate_stop_handlers() {
+  if (!g_installed) return;
+  const struct sigaction sa = stop_action();
+  for (int k = 0; k < 4; ++k) sigaction(kSignals[k], &sa, nullptr);
 }
 
 void restore_stop_handlers() {

@@ -15,6 +15,10 @@ namespace lodestone::state {
 void install_stop_handlers();
 // Puts back what was there before install_stop_handlers().
 void restore_stop_handlers();
+// If the handlers were installed, sets them again: the library shutdown
+// (PetscFinalize, with MPI_Finalize inside) resets SIGTERM to its default, and a
+// stop signal in the last moments of a finished run must not kill the process.
+void reinstate_stop_handlers();
 
 // This rank's flag: the number of the first stop signal received, or 0.
 int local_stop_signal();

@@ -58,3 +58,20 @@ TEST_F(StopSignals, ClockReportsTheSignalAndAsksForACheckpoint) {
   EXPECT_TRUE(d.checkpoint_due);
   EXPECT_FALSE(d.out_of_time);
 }
+
+// After the libraries' shutdown the handlers are set again (a no-op unless
+// installed): PETSc's shutdown used to set SIGTERM back to its default, and a stop
+// signal in a finished run's last moments killed it (exit 143).
+TEST(StopSignalsRuntime, ReinstateKeepsTheHandlers) {
+  state::install_stop_handlers();
+  struct sigaction installed {};
+  ASSERT_EQ(sigaction(SIGTERM, nullptr, &installed), 0);
+  std::signal(SIGTERM, SIG_DFL);  // what a library's shutdown did
+  state::reinstate_stop_handlers();
+  struct sigaction now {};
+  ASSERT_EQ(sigaction(SIGTERM, nullptr, &now), 0);
+  EXPECT_EQ(now.sa_handler, installed.sa_handler);
+  state::restore_stop_handlers();
+  ASSERT_EQ(sigaction(SIGTERM, nullptr, &now), 0);
+  EXPECT_EQ(now.sa_handler, SIG_DFL);
+}
