@@ -17,12 +17,15 @@ for trial in $(seq 1 "$trials"); do
   timeout 60 "${MPI[@]}" -n 3 "$DRIVER" write "$ckpt" "$rows" 3 1000 >"$work/write.log" 2>&1 &
   bg=$!
   # Wait (bounded) until this writer has committed a checkpoint (a new file
-  # under the name), so the kill lands while it is writing the next ones.
+  # under the name), so the kill lands while it is writing the next ones. The
+  # change is noted once it is seen: the writer goes on renaming new files over
+  # the name, and the file system may hand the old inode number out again.
+  committed=0
   for _ in $(seq 1 400); do
-    [[ "$(stat -c %i "$ckpt" 2>/dev/null || echo none)" != "$before" ]] && break
+    if [[ "$(stat -c %i "$ckpt" 2>/dev/null || echo none)" != "$before" ]]; then committed=1; break; fi
     sleep 0.025
   done
-  [[ "$(stat -c %i "$ckpt" 2>/dev/null || echo none)" != "$before" ]] || {
+  [[ "$committed" -eq 1 ]] || {
     echo "trial $trial: no new checkpoint appeared"; cat "$work/write.log"; exit 1; }
   sleep "0.$(printf '%03d' $((RANDOM % 600)))"
   # SIGKILL every rank: the children of mpirun, which is the child of timeout.
