@@ -293,7 +293,12 @@ Result<Handle> create_dataset(hid_t loc, const std::string& name, hid_t file_typ
                               const std::vector<std::int64_t>& dims) {
   std::vector<hsize_t> d(dims.begin(), dims.end());
   Handle space(H5Screate_simple(static_cast<int>(d.size()), d.data(), nullptr));
-  hid_t ds = H5Dcreate2(loc, name.c_str(), file_type, space.get(), H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+  // Every dataset Lodestone creates is then written whole, so the file space is
+  // not pre-filled: parallel HDF5 allocates it at creation and would otherwise
+  // write the fill value over all of it first, doubling the bytes written.
+  Handle dcpl(H5Pcreate(H5P_DATASET_CREATE));
+  H5Pset_fill_time(dcpl.get(), H5D_FILL_TIME_NEVER);
+  hid_t ds = H5Dcreate2(loc, name.c_str(), file_type, space.get(), H5P_DEFAULT, dcpl.get(), H5P_DEFAULT);
   if (ds < 0) return Status::input(fmt::format("cannot create dataset '{}'", name));
   return Handle(ds);
 }

@@ -83,7 +83,8 @@ Status write_range(hid_t dataset, hid_t mem_type, std::int64_t offset, std::int6
 Status read_rows(hid_t dataset, hid_t mem_type, std::int64_t row, std::int64_t nrows, std::int64_t ncols, void* out);
 Status write_rows(hid_t dataset, hid_t mem_type, std::int64_t row, std::int64_t nrows, std::int64_t ncols, const void* in);
 
-// Creates a dataset of the given element type and shape (collective).
+// Creates a dataset of the given element type and shape (collective). It is not
+// pre-filled: the caller writes every element.
 Result<Handle> create_dataset(hid_t loc, const std::string& name, hid_t file_type, const std::vector<std::int64_t>& dims);
 
 }  // namespace lodestone::h5

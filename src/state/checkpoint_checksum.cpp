@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cstring>
 #include <limits>
+#include <vector>
 
 #include "io/fingerprint.hpp"
 #include "support/collective.hpp"
@@ -43,12 +44,21 @@ class Sequence {
 std::uint64_t block_checksum(MPI_Comm comm, const std::string& name, const StateBlock& block, std::int64_t row_begin,
                              std::int64_t local_rows) {
   const std::uint64_t salt = hash_text(name);
+  std::vector<std::uint64_t> column_key(static_cast<std::size_t>(std::max<std::int64_t>(block.columns, 0)));
+  for (std::int64_t j = 0; j < block.columns; ++j)
+    column_key[static_cast<std::size_t>(j)] = mix64(salt ^ mix64(static_cast<std::uint64_t>(j) + 0x9e37ULL));
+  // Rows in tiles, so each row's hash is computed once for all columns.
+  constexpr std::int64_t kTile = 512;
+  std::uint64_t row_key[kTile];
   std::uint64_t sum = 0;
-  for (std::int64_t j = 0; j < block.columns; ++j) {
-    const std::uint64_t cj = mix64(salt ^ mix64(static_cast<std::uint64_t>(j) + 0x9e37ULL));
-    const double* col = block.local.data() + j * local_rows;
-    for (std::int64_t i = 0; i < local_rows; ++i)
-      sum += mix64(cj ^ mix64(static_cast<std::uint64_t>(row_begin + i)) ^ mix64(bits_of(col[i]) + 0x632be59bULL));
+  for (std::int64_t i0 = 0; i0 < local_rows; i0 += kTile) {
+    const std::int64_t rows = std::min(kTile, local_rows - i0);
+    for (std::int64_t i = 0; i < rows; ++i) row_key[i] = mix64(static_cast<std::uint64_t>(row_begin + i0 + i));
+    for (std::int64_t j = 0; j < block.columns; ++j) {
+      const std::uint64_t cj = column_key[static_cast<std::size_t>(j)];
+      const double* col = block.local.data() + j * local_rows + i0;
+      for (std::int64_t i = 0; i < rows; ++i) sum += mix64(cj ^ row_key[i] ^ mix64(bits_of(col[i]) + 0x632be59bULL));
+    }
   }
   std::uint64_t total = sum_all_u64(comm, sum);
   return mix64(total ^ static_cast<std::uint64_t>(block.columns) * 0x100000001b3ULL);
