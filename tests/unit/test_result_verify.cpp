@@ -6,12 +6,12 @@
 
 #include "io/generators.hpp"
 #include "io/matrix_writer.hpp"
-#include "io/partition.hpp"
 #include "laplace_result.hpp"
 #include "lodestone/matrix.hpp"
 #include "lodestone/result.hpp"
 #include "lodestone/verify.hpp"
 #include "support/collective.hpp"
+#include "test_solver_matrices.hpp"
 #include "test_util.hpp"
 
 using namespace lodestone;
@@ -126,17 +126,7 @@ TEST(Verify, ComplexPairsOfTheCyclicShift) {
   // diagonalised by the discrete Fourier basis, a standard linear-algebra result).
   MPI_Comm comm = MPI_COMM_WORLD;
   const std::int64_t n = 12;
-  RowRange mine = even_split(n, comm_rank(comm), comm_size(comm));
-  io::CsrRows rows;
-  rows.row_begin = mine.begin;
-  for (std::int64_t i = mine.begin; i < mine.end; ++i) {
-    rows.columns.push_back((i + 1) % n);
-    rows.values.push_back(1.0);
-    rows.offsets.push_back(static_cast<std::int64_t>(rows.columns.size()));
-  }
-  std::string path = test::temp_path(comm, "verify-shift.h5");
-  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", n, false, rows).is_ok());
-  auto a = Matrix::load(comm, path);
+  auto a = test::build_file(comm, n, false, false, [&](std::int64_t i, test::Entries& e) { e.push_back({(i + 1) % n, 1.0}); });
   ASSERT_TRUE(a.is_ok()) << a.status().message();
   const auto& info = a->info();
   SolveResult r;
@@ -207,17 +197,7 @@ TEST(Verify, ExtremeScalesKeepNormsAndOrthogonality) {
   for (double scale : {1e300, 1e-300}) {
     SCOPED_TRACE(scale);
     auto d = [&](std::int64_t i) { return scale * static_cast<double>(i + 1) / static_cast<double>(n); };
-    RowRange mine = even_split(n, comm_rank(comm), comm_size(comm));
-    io::CsrRows rows;
-    rows.row_begin = mine.begin;
-    for (std::int64_t i = mine.begin; i < mine.end; ++i) {
-      rows.columns.push_back(i);
-      rows.values.push_back(d(i));
-      rows.offsets.push_back(static_cast<std::int64_t>(rows.columns.size()));
-    }
-    std::string path = test::temp_path(comm, "verify-extreme.h5");
-    ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", n, true, rows).is_ok());
-    auto a = Matrix::load(comm, path);
+    auto a = test::build_file(comm, n, true, false, [&](std::int64_t i, test::Entries& e) { e.push_back({i, d(i)}); });
     ASSERT_TRUE(a.is_ok()) << a.status().message();
     const auto& info = a->info();
     SolveResult r;
@@ -259,17 +239,11 @@ TEST(Verify, DenseLayoutMatrix) {
   // The same check through a dense (MPIDENSE) matrix: MatMatMult of two dense matrices.
   MPI_Comm comm = MPI_COMM_WORLD;
   const std::int64_t n = 17;
-  RowRange mine = even_split(n, comm_rank(comm), comm_size(comm));
-  std::vector<double> dense(static_cast<std::size_t>(mine.size() * n), 0.0);
-  for (std::int64_t i = mine.begin; i < mine.end; ++i) {
-    const std::int64_t li = i - mine.begin;
-    dense[static_cast<std::size_t>(li * n + i)] = 2.0;
-    if (i > 0) dense[static_cast<std::size_t>(li * n + i - 1)] = -1.0;
-    if (i + 1 < n) dense[static_cast<std::size_t>(li * n + i + 1)] = -1.0;
-  }
-  std::string path = test::temp_path(comm, "verify-dense.h5");
-  ASSERT_TRUE(io::write_dense_file(comm, path, "/matrix", n, true, mine.begin, mine.size(), dense).is_ok());
-  auto a = Matrix::load(comm, path);
+  auto a = test::build_file(comm, n, true, true, [&](std::int64_t i, test::Entries& e) {
+    e.push_back({i, 2.0});
+    if (i > 0) e.push_back({i - 1, -1.0});
+    if (i + 1 < n) e.push_back({i + 1, -1.0});
+  });
   ASSERT_TRUE(a.is_ok()) << a.status().message();
   const auto& i = a->info();
   auto rep = verify_result(*a, test::laplace1d_result(comm, n, 3, i.row_begin, i.row_end, i.fingerprint));
