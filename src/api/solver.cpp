@@ -92,7 +92,7 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     return Status::usage("--select smallest needs a symmetric matrix (this one is not declared symmetric)");
   std::string method_name = options.method;
   if (method_name == "auto") {
-    method_name = info.symmetric ? "chebyshev" : "block";
+    method_name = info.symmetric ? "chebyshev" : "krylov";
     if (options.note && comm_rank(comm) == 0)
       options.note(fmt::format("method auto: using {} ({} matrix)", method_name,
                                info.symmetric ? "symmetric" : "non-symmetric"));

@@ -46,7 +46,7 @@ Command make_solve_command(CLI::App& root) {
   app->add_option("--select", args->solve.selection, "which pairs: magnitude (largest |lambda|), largest, smallest (symmetric only)")
       ->check(CLI::IsMember({"magnitude", "largest", "smallest"}))
       ->capture_default_str();
-  app->add_option("--method", args->solve.method, "auto (chebyshev if symmetric, else block) | power | block | chebyshev | krylov")
+  app->add_option("--method", args->solve.method, "auto (chebyshev if symmetric, else krylov) | power | block | chebyshev | krylov")
       ->check(CLI::IsMember({"auto", "power", "block", "chebyshev", "krylov"}))
       ->capture_default_str();
   app->add_option("--tol", args->solve.tolerance, "converged when ||Av - lambda v|| <= tol * ||A||_est")
