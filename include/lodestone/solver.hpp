@@ -1,7 +1,7 @@
 // solve(): a few wanted eigenpairs of a distributed matrix, with certificates.
 //
-// A solve runs one method (power, block or chebyshev; `auto` picks chebyshev for
-// symmetric matrices and block otherwise) on the matrix until K wanted pairs
+// A solve runs one method (power, block, chebyshev or krylov; `auto` picks
+// chebyshev for symmetric matrices and krylov otherwise) on the matrix until K wanted pairs
 // meet the tolerance or the budget of matrix-vector products runs out. Which
 // pairs are wanted is the selection: largest modulus (default), largest or
 // smallest algebraic value (smallest: symmetric matrices only). A pair (lambda,
@@ -30,7 +30,7 @@ namespace lodestone {
 struct SolveOptions {
   std::int64_t pairs = 1;                // K
   std::string selection = "magnitude";   // magnitude | largest | smallest
-  std::string method = "auto";           // auto | power | block | chebyshev
+  std::string method = "auto";           // auto | power | block | chebyshev | krylov
   double tolerance = 1e-8;
   std::int64_t max_matvecs = 0;          // 0: no limit
   std::uint64_t seed = 1;

@@ -92,17 +92,17 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     return Status::usage("--select smallest needs a symmetric matrix (this one is not declared symmetric)");
   std::string method_name = options.method;
   if (method_name == "auto") {
-    method_name = info.symmetric ? "chebyshev" : "block";
+    method_name = info.symmetric ? "chebyshev" : "krylov";
     if (options.note && comm_rank(comm) == 0)
       options.note(fmt::format("method auto: using {} ({} matrix)", method_name,
                                info.symmetric ? "symmetric" : "non-symmetric"));
   }
   const methods::MethodInfo* entry = methods::find_method(method_name);
-  if (!entry) return Status::usage(fmt::format("unknown method '{}' (auto, power, block or chebyshev)", options.method));
+  if (!entry) return Status::usage(fmt::format("unknown method '{}' (auto, power, block, chebyshev or krylov)", options.method));
   if (entry->symmetric_only && !info.symmetric)
     return Status::usage(fmt::format("--method {} needs a symmetric matrix; use --method block for this one", method_name));
   if (options.has_shift && method_name == "chebyshev")
-    return Status::usage("--shift applies to --method power and block; the Chebyshev filter chooses its own interval");
+    return Status::usage("--shift applies to --method power, block and krylov; the Chebyshev filter chooses its own interval");
   if (options.block_size != 0 && options.block_size < options.pairs && method_name != "power")
     return Status::usage(fmt::format("--block-size {} is smaller than --pairs {}", options.block_size, options.pairs));
 

@@ -25,8 +25,8 @@ Command make_calibrate_command(CLI::App& root) {
                   "budget of matrix-vector products for the short solve; if it runs out, convergence is "
                   "extrapolated from the residuals")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 50))->capture_default_str();
-  app->add_option("--method", a->req.method, "auto | power | block | chebyshev, as for solve and plan")
-      ->check(CLI::IsMember({"auto", "power", "block", "chebyshev"}))->capture_default_str();
+  app->add_option("--method", a->req.method, "auto | power | block | chebyshev | krylov, as for solve and plan")
+      ->check(CLI::IsMember({"auto", "power", "block", "chebyshev", "krylov"}))->capture_default_str();
   app->add_option("--block-size", a->req.block_size, "block and chebyshev: vectors per block (default K plus a few)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
   app->add_option("--tol", a->req.tolerance, "tolerance of the short solve, as for solve")

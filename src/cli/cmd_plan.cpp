@@ -62,7 +62,7 @@ Command make_plan_command(CLI::App& root) {
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20))->capture_default_str();
   app->add_option("--ranks-per-node", a->req.ranks_per_node, "MPI ranks per node (default: one per core)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
-  app->add_option("--method", a->req.method, "auto | power | block | chebyshev, as for solve")->capture_default_str();
+  app->add_option("--method", a->req.method, "auto | power | block | chebyshev | krylov, as for solve")->capture_default_str();
   app->add_option("--block-size", a->req.block_size, "block width the model assumes (default: K plus a few)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
   app->add_option("--ghost-rows", a->req.ghost_rows,

@@ -89,5 +89,6 @@ const MethodInfo* find_method(std::string_view name);
 std::unique_ptr<Method> make_power();
 std::unique_ptr<Method> make_block();
 std::unique_ptr<Method> make_chebyshev();
+std::unique_ptr<Method> make_krylov();
 
 }  // namespace lodestone::methods

@@ -16,6 +16,7 @@ const std::vector<MethodInfo>& registry() {
       {"power", "normalized power iteration, one vector, with restarted deflation", false, &make_power},
       {"block", "block power (subspace) iteration with Rayleigh-Ritz and locking", false, &make_block},
       {"chebyshev", "Chebyshev-filtered block iteration (symmetric matrices)", true, &make_chebyshev},
+      {"krylov", "thick-restart Arnoldi (Krylov-Schur), one vector per product", false, &make_krylov},
   };
   return table;
 }

@@ -191,9 +191,9 @@ Result<Calibration> calibrate(MPI_Comm comm, const CalibrationRequest& req) {
   c.nnz = info.nnz;
 
   std::string method = req.method;
-  if (method == "auto") method = info.symmetric ? "chebyshev" : "block";
-  if (method != "power" && method != "block" && method != "chebyshev")
-    return Status::usage(fmt::format("--method '{}': expected auto, power, block or chebyshev", req.method));
+  if (method == "auto") method = info.symmetric ? "chebyshev" : "krylov";
+  if (method != "power" && method != "block" && method != "chebyshev" && method != "krylov")
+    return Status::usage(fmt::format("--method '{}': expected auto, power, block, chebyshev or krylov", req.method));
   if (method == "chebyshev" && !info.symmetric)
     return Status::usage("--method chebyshev needs a symmetric matrix; this one is not declared symmetric (use block)");
   const plan::MethodShape shape = plan::method_shape(method, req.pairs, req.block_size);

@@ -28,7 +28,8 @@ std::string describe_plan(const Plan& p) {
                              p.symmetric ? "symmetric" : "not symmetric"));
   std::string method = fmt::format("{}{}, {} pair{}", p.method, p.method_reason.empty() ? "" : " (" + p.method_reason + ")",
                                    p.pairs, p.pairs == 1 ? "" : "s");
-  if (p.method != "power") method += fmt::format(", block of {} vectors", p.block);
+  if (p.method == "krylov") method += ", one vector per product";
+  else if (p.method != "power") method += fmt::format(", block of {} vectors", p.block);
   if (p.filter_degree > 0) method += fmt::format(", filter degree {}", p.filter_degree);
   line("method", method);
   line("scheduler", scheduler_name(p.scheduler));

@@ -35,6 +35,25 @@ MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int
     s.checkpoint_vectors = pairs + 1;
     return s;
   }
+  if (method == "krylov") {
+    // One vector per product (src/methods/krylov_method.cpp): a basis of m + 1 vectors,
+    // m = max(2K+1, K+16) or --block-size (at least K+1), a scratch block of m for the
+    // restart's rotation, and the product's input and output.
+    const std::int64_t m = block > 0 ? std::max(block, pairs + 1) : std::max(2 * pairs + 1, pairs + 16);
+    const std::int64_t keep = std::min(m - 1, pairs + (m - pairs) / 2);
+    s.block = 1;
+    s.blocks_held = 2 * m + 3;
+    s.passes_per_iteration = 1;
+    s.reductions_per_iteration = 2;  // classical Gram-Schmidt twice, one sum each
+    // Per product: two passes of V^T w and w - V c over about m columns (8m flops a row),
+    // and the restart's rotation V U (2 m keep a row) shared by the m - keep products of a cycle.
+    const double md = static_cast<double>(m), kd = static_cast<double>(keep);
+    s.dense_flops_per_row = 8.0 * md + 2.0 * md * kd / std::max(1.0, md - kd);
+    s.default_matvecs_per_pair_low = 15;
+    s.default_matvecs_per_pair_high = 1500;
+    s.checkpoint_vectors = keep + 1;
+    return s;
+  }
   s.block = block > 0 ? block : default_block(method, pairs);
   const double b = static_cast<double>(s.block);
   // Orthonormalize the block twice and rotate it by the Ritz vectors: ~6 b^2 flops per row.

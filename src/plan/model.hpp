@@ -46,7 +46,7 @@ struct MachineModel {
 
 // How a method uses memory and time, per iteration.
 struct MethodShape {
-  std::string name;                       // power | block | chebyshev
+  std::string name;                       // power | block | chebyshev | krylov
   std::int64_t pairs = 1;
   std::int64_t block = 1;                 // vectors multiplied together in one pass
   std::int64_t passes_per_iteration = 1;  // matrix passes (Chebyshev: the filter degree)
@@ -62,7 +62,8 @@ struct MethodShape {
 // The block width a method uses by default for K pairs (K plus a few guard vectors),
 // as the solver chooses it: block K + max(2, ceil(K/2)), chebyshev K + max(4, floor(K/2)).
 std::int64_t default_block(const std::string& method, std::int64_t pairs);
-// `block` = 0 picks the default. Method names are power, block, chebyshev.
+// `block` = 0 picks the default. Method names are power, block, chebyshev, krylov
+// (for krylov `block` is its basis size; it multiplies one vector at a time).
 MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int64_t block);
 
 // Ghost values the heaviest rank receives per vector: none on one rank; for a

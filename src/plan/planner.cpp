@@ -68,8 +68,8 @@ Status check_request(const PlanRequest& r) {
     return Status::usage("--scheduler local runs on one machine: leave out --nodes or give --nodes 1");
   if (r.max_walltime > 0 && r.max_walltime < 60 && r.scheduler != Scheduler::local)
     return Status::usage("--max-walltime must be at least one minute (schedulers count whole minutes)");
-  if (r.method != "auto" && r.method != "power" && r.method != "block" && r.method != "chebyshev")
-    return Status::usage(fmt::format("--method '{}': expected auto, power, block or chebyshev", r.method));
+  if (r.method != "auto" && r.method != "power" && r.method != "block" && r.method != "chebyshev" && r.method != "krylov")
+    return Status::usage(fmt::format("--method '{}': expected auto, power, block, chebyshev or krylov", r.method));
   if (r.block_size < 0) return Status::usage("--block-size must be at least 1");
   if (r.ghost_rows < 0) return Status::usage("--ghost-rows must be at least 1");
   if (r.block_size > 0 && r.block_size < r.pairs)
@@ -218,7 +218,7 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
 
   std::string method = r.method;
   if (method == "auto") {
-    method = f.symmetric ? "chebyshev" : "block";
+    method = f.symmetric ? "chebyshev" : "krylov";
     p.method_reason = f.symmetric ? "auto: the matrix is symmetric" : "auto: the matrix is not symmetric";
   }
   if (method == "chebyshev" && !f.symmetric)

@@ -66,7 +66,7 @@ TEST(SolverApi, BudgetKeepsConvergedPairs) {
 }
 
 TEST(SolverApi, SaveAndRestoreContinueToTheSameAnswer) {
-  for (const char* name : {"chebyshev", "block", "power"}) {
+  for (const char* name : {"chebyshev", "block", "power", "krylov"}) {
     SCOPED_TRACE(name);
     // Single-vector steps converge at the ratio of neighbouring eigenvalues: a shorter rod.
     const std::int64_t n = std::string(name) == "power" ? 10 : 50;
