@@ -55,6 +55,7 @@ class KrylovMethod final : public SubspaceMethod {
 
   Status step() override {
     if (nconv_ >= problem_.pairs) return Status::ok();
+    LODESTONE_TRY(allocate_work());
     LODESTONE_TRY(extend());
     LODESTONE_TRY(schur_and_truncate());
     ++iterations_;
@@ -91,6 +92,9 @@ class KrylovMethod final : public SubspaceMethod {
     t_ = s_.sub(0, p, 0, p);
     locked_ = p;
     LODESTONE_TRY(resize_active(0));
+    // The work blocks (m + 2 vectors) are not needed to extract: free them first,
+    // so the extraction's own blocks do not come on top (a later step() makes them again).
+    release_work();
     return SubspaceMethod::extract();
   }
 
@@ -135,7 +139,7 @@ class KrylovMethod final : public SubspaceMethod {
   }
 
  private:
-  // Basis size m and the products' one-column blocks.
+  // Basis size m, the basis and the work blocks.
   Status allocate() {
     PetscInt n = 0;
     MatGetSize(op_->mat(), &n, nullptr);
@@ -146,6 +150,12 @@ class KrylovMethod final : public SubspaceMethod {
     auto v = Block::like(op_->mat(), m_ + 1);
     if (!v) return v.status();
     v_ = std::move(*v);
+    return allocate_work();
+  }
+
+  // The products' one-column blocks and the restart's scratch block.
+  Status allocate_work() {
+    if (scratch_.cols() == m_) return Status::ok();
     auto x = Block::like(op_->mat(), 1);
     if (!x) return x.status();
     x1_ = std::move(*x);
@@ -156,6 +166,12 @@ class KrylovMethod final : public SubspaceMethod {
     if (!t) return t.status();
     scratch_ = std::move(*t);
     return Status::ok();
+  }
+
+  void release_work() {
+    x1_ = Block();
+    y1_ = Block();
+    scratch_ = Block();
   }
 
   void clear_ritz() {

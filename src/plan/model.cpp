@@ -43,6 +43,7 @@ MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int
     const std::int64_t keep = std::min(m - 1, pairs + (m - pairs) / 2);
     s.block = 1;
     s.blocks_held = 2 * m + 3;
+    s.held_at_end = m + 1;  // the basis; the work blocks are freed before the extraction
     s.passes_per_iteration = 1;
     s.reductions_per_iteration = 2;  // classical Gram-Schmidt twice, one sum each
     // Per product: two passes of V^T w and w - V c over about m columns (8m flops a row),
@@ -91,18 +92,25 @@ MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool de
   const double vrows = static_cast<double>(std::max(part.max_rows, part.heaviest_rows));
   // Values, column indices and three index arrays per row (row pointers, lengths, diagonal/off-diagonal split).
   out.matrix = dense ? 8.0 * rows * static_cast<double>(n) : nnz * (8.0 + m.index_bytes) + rows * 3.0 * m.index_bytes;
-  // Working blocks, or at the end, when the pairs are extracted, X and A X with three
-  // K-wide blocks beside them: the eigenvectors, their product with A (the certified
+  // Working blocks, or at the end, when the pairs are extracted, X and A X (krylov: its
+  // basis) with three K-wide blocks beside them: the eigenvectors, their product with A (the certified
   // residuals) and the copy in the reported order. For power (one vector) and block
   // the end is the larger: a 2M-row walk with power, K = 4, peaked there at 1.6x the
   // working-block figure.
   const double working = static_cast<double>(s.blocks_held * s.block);
-  const double finishing = 2.0 * static_cast<double>(s.block) + 3.0 * static_cast<double>(s.pairs);
+  const double held = s.held_at_end >= 0 ? static_cast<double>(s.held_at_end) : 2.0 * static_cast<double>(s.block);
+  const double finishing = held + 3.0 * static_cast<double>(s.pairs);
   out.vectors = 8.0 * vrows * std::max(working, finishing);
   out.locked = 8.0 * vrows * static_cast<double>(s.pairs);
   // Ghost values of one block product are received into one buffer and the rows others need are
   // packed into another of about the same size: two buffers of b values per ghost row, and its index.
-  out.halo = static_cast<double>(ghosts) * (16.0 * static_cast<double>(s.block) + m.index_bytes);
+  // Besides, the matrix keeps its own ghost bookkeeping for the whole solve: per ghost
+  // column its global index, a global-to-local hash entry, a slot in the ghost vector
+  // and the scatter's index lists on the receiving and the owning rank. 8 + 10 i bytes
+  // a ghost fits the measured peaks (a 10^6-row walk at 2 and 4 ranks, block and krylov;
+  // docs/performance-model.md).
+  out.halo = static_cast<double>(ghosts) * (16.0 * static_cast<double>(s.block) + m.index_bytes) +
+             static_cast<double>(ghosts) * (8.0 + 10.0 * m.index_bytes);
   if (!dense) {
     // csr_reader: a chunk of int64 columns, double values and PETSc columns; offsets and two count arrays.
     const double chunk = static_cast<double>(std::min<std::int64_t>(m.read_chunk_entries, std::max<std::int64_t>(part.heaviest_nnz, 1)));

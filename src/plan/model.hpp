@@ -51,6 +51,7 @@ struct MethodShape {
   std::int64_t block = 1;                 // vectors multiplied together in one pass
   std::int64_t passes_per_iteration = 1;  // matrix passes (Chebyshev: the filter degree)
   std::int64_t blocks_held = 4;           // working blocks of `block` vectors each
+  std::int64_t held_at_end = -1;          // vectors still held while the pairs are extracted (-1: X and A X)
   std::int64_t reductions_per_iteration = 3;
   double dense_flops_per_row = 0;         // per iteration, per local row
   std::int64_t startup_matvecs = 0;       // e.g. the Lanczos run that bounds the spectrum
