@@ -79,3 +79,27 @@ TEST(AlgebraBlock, DenseProductsMatchMatMult) {
   ASSERT_TRUE(m.is_ok());
   check_repeated_products(&*m);
 }
+
+// The norm estimate sqrt(||A||_1 ||A||_inf) sums the columns of a distributed sparse
+// matrix itself (its ghost columns' sums sent to their owners): it must agree with
+// PETSc's own MatNorm on a non-symmetric matrix whose columns are spread over every
+// rank (row i holds a few hashed columns with signed values, column 5 is heavy).
+TEST(AlgebraBlock, NormEstimateMatchesPetscNorms) {
+  const std::int64_t n = 41;
+  auto m = test::build_file(MPI_COMM_WORLD, n, false, false, [&](std::int64_t i, test::Entries& e) {
+    const auto u = static_cast<std::uint64_t>(i);
+    for (std::uint64_t k = 0; k < 4; ++k) {
+      const auto j = static_cast<std::int64_t>(io::hashed_uniform(11, u, k) * static_cast<double>(n)) % n;
+      e.push_back({j, io::hashed_uniform(12, u, k) - 0.5});
+    }
+    e.push_back({5, 2.0});  // entries in one column add up: at least 1.5 each
+  });
+  ASSERT_TRUE(m.is_ok()) << m.status().message();
+  PetscReal n1 = 0, ninf = 0;
+  ASSERT_EQ(MatNorm(m->petsc(), NORM_1, &n1), 0);
+  ASSERT_EQ(MatNorm(m->petsc(), NORM_INFINITY, &ninf), 0);
+  auto est = algebra::norm_estimate(m->petsc());
+  ASSERT_TRUE(est.is_ok()) << est.status().message();
+  EXPECT_GE(n1, 41 * 1.5);  // column 5 alone
+  EXPECT_NEAR(*est, std::sqrt(static_cast<double>(n1) * static_cast<double>(ninf)), 1e-12 * *est);
+}
