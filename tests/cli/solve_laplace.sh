@@ -3,7 +3,8 @@
 # eigenvalues against the closed form 4 - 2cos(i pi/(nx+1)) - 2cos(j pi/(ny+1))
 # (Kronecker sum of the 1-D finite-difference result 2 - 2cos(j pi/(n+1))), the
 # same values at 1-3 ranks, `lodestone verify` passing on every result written,
-# exit 4 with the converged pairs kept when the matvec budget runs out, and the
+# exit 4 with the converged pairs kept when the matvec budget runs out (or the residuals
+# checked at the end miss the tolerance), and the
 # refusals for non-symmetric input.
 set -euo pipefail
 tmp="$(mktemp -d)"
@@ -59,6 +60,14 @@ expect 0 "" run 1 "$LODESTONE" verify "$tmp/plate.h5" "$tmp/budget.h5"
 # The single-vector method stopped by its budget writes what it has too.
 expect 4 "matvec budget (30) ran out" run 2 "$LODESTONE" solve "$tmp/plate.h5" --pairs 3 --method power --max-matvecs 30 --out "$tmp/budget-power.h5"
 [ -f "$tmp/budget-power.h5" ] || fail "no results file after the power method's budget ran out"
+# No budget, but block's own test accepts pairs whose residuals, computed afresh at the end,
+# are just above a tight tolerance (a 4000-node walk at 1e-9): exit 4, and the message says
+# so instead of blaming a budget that was never set.
+run 1 "$LODESTONE" generate walk --n 4000 --communities 4 --mixing 0.1 "$tmp/walk.h5" >/dev/null
+expect 4 "residuals checked at the end are above the tolerance" run 2 "$LODESTONE" solve "$tmp/walk.h5" --pairs 4 \
+  --method block --tol 1e-9 --quiet --out "$tmp/walk-tight.h5"
+grep -q "budget" "$tmp/out" && fail "the message blames a matvec budget that was not set: $(cat "$tmp/out")"
+[ -f "$tmp/walk-tight.h5" ] || fail "no results file after the certified residuals missed the tolerance"
 
 # Every listing numbers pairs from 1 (solve's closing table, inspect, verify), on the
 # budget run's file, which also has pairs that did not converge.
