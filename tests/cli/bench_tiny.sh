@@ -30,7 +30,7 @@ assert len(rows) == len(doc["rows"]), "CSV and JSON disagree"
 def have(case, contender, ranks):
     return [r for r in rows if r["case"] == case and r["contender"] == contender and r["ranks"] == str(ranks)]
 for case in "abcd":
-    for method in ("power", "block", "chebyshev", "auto"):
+    for method in ("power", "block", "chebyshev", "krylov", "auto"):
         for p in (1, 2):
             assert len(have(case, f"lodestone {method}", p)) == 1, (case, method, p)
 assert have("a", "scipy eigsh", 1) and have("c", "scipy eigs", 1) and have("d", "lapacke dsyevr", 1)
