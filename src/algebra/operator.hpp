@@ -36,10 +36,13 @@ class Operator {
   // once per product (n x b values: b of the rank's own matrix rows' length) and
   // the local rows multiply it with one BLAS-3 product per owning rank's piece.
   Status apply_dense(const Block& x, Block& y);
+  // One column: MatMult on vectors laid over the blocks' storage.
+  Status apply_one(const Block& x, Block& y);
 
   Mat a_ = nullptr;
   std::int64_t matvecs_ = 0;
   int dense_path_ = -1;               // unknown until the first product; then 0 or 1
+  Vec x1_ = nullptr, y1_ = nullptr;   // apply_one's vectors, laid over the blocks' storage
   std::vector<double> gathered_;      // X from every rank, rank by rank (each piece m_r x b)
   std::vector<int> counts_, displs_;  // of the gather, in values
 };
