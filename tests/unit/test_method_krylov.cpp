@@ -156,13 +156,7 @@ TEST(MethodKrylov, RandomMatricesAgainstLapack) {
   MPI_Comm comm = MPI_COMM_WORLD;
   const std::int64_t n = 50;
   // Non-symmetric: hashed random entries plus planted diagonal values.
-  auto general = [&](std::int64_t i, test::Entries& e) {
-    for (std::int64_t j = 0; j < n; ++j) {
-      double v = 0.5 * (io::hashed_uniform(31, static_cast<std::uint64_t>(i), static_cast<std::uint64_t>(j)) - 0.5);
-      if (i == j && i < 3) v += (i == 0 ? 4.0 : i == 1 ? -3.5 : 3.0);
-      e.push_back({j, v});
-    }
-  };
+  const auto general = test::planted_random(n, 31, 0.5, {4.0, -3.5, 3.0});
   {
     auto m = test::build_file(comm, n, false, false, general);
     ASSERT_TRUE(m.is_ok()) << m.status().message();

@@ -115,13 +115,7 @@ TEST(MethodNonsymmetric, RandomDenseAndCsrAgainstLapack) {
   const std::int64_t n = 36;
   // Random entries from the counter-based hash, with three planted diagonal values so
   // that the wanted pairs stand clear of the random bulk (spectral radius about 1).
-  auto dense_rule = [&](std::int64_t i, test::Entries& e) {
-    for (std::int64_t j = 0; j < n; ++j) {
-      double v = 0.4 * (io::hashed_uniform(11, static_cast<std::uint64_t>(i), static_cast<std::uint64_t>(j)) - 0.5);
-      if (i == j && i < 3) v += (i == 0 ? 6.0 : i == 1 ? -4.5 : 3.5);
-      e.push_back({j, v});
-    }
-  };
+  const auto dense_rule = test::planted_random(n, 11, 0.4, {6.0, -4.5, 3.5});
   auto sparse_rule = [&](std::int64_t i, test::Entries& e) {
     e.push_back({i, i == 0 ? 5.0 : i == 1 ? -4.0 : i == 2 ? 3.2 : 0.1});
     for (int k = 0; k < 4; ++k) {

@@ -11,6 +11,7 @@
 #include <utility>
 #include <vector>
 
+#include "io/generators.hpp"
 #include "io/matrix_writer.hpp"
 #include "io/partition.hpp"
 #include "lodestone/matrix.hpp"
@@ -81,6 +82,19 @@ inline Result<Matrix> build_file(MPI_Comm comm, std::int64_t n, bool symmetric, 
   }
   if (!s) return s;
   return Matrix::load(comm, path);
+}
+
+// A dense random matrix from the counter-based hash, scale x (u - 1/2) per entry, with
+// `planted` added to the first diagonal entries so that the wanted pairs stand clear
+// of the random bulk.
+inline RowRule planted_random(std::int64_t n, std::uint64_t seed, double scale, std::vector<double> planted) {
+  return [=](std::int64_t i, Entries& e) {
+    for (std::int64_t j = 0; j < n; ++j) {
+      double v = scale * (io::hashed_uniform(seed, static_cast<std::uint64_t>(i), static_cast<std::uint64_t>(j)) - 0.5);
+      if (i == j && i < static_cast<std::int64_t>(planted.size())) v += planted[static_cast<std::size_t>(i)];
+      e.push_back({j, v});
+    }
+  };
 }
 
 // The whole matrix, on every rank (tests only: small n), row-major.
