@@ -48,19 +48,6 @@ Matrix load_laplace2d(MPI_Comm comm, std::int64_t nx, std::int64_t ny) {
   return std::move(*m);
 }
 
-// Block upper triangular: a 2x2 block on rows 0-1, then the diagonal 3.0, 2.8, ...
-// with upper couplings. A block-triangular matrix's spectrum is that of its
-// diagonal blocks (closed form): the 2x2 block's pair plus the diagonal.
-test::RowRule planted(double a, double b, double c, double d, std::int64_t n) {
-  return [=](std::int64_t i, test::Entries& e) {
-    if (i == 0) e.push_back({0, a}), e.push_back({1, b});
-    if (i == 1) e.push_back({0, c}), e.push_back({1, d});
-    if (i >= 2) e.push_back({i, 3.0 - 0.2 * static_cast<double>(i - 2)});
-    if (i + 1 < n && i >= 1) e.push_back({i + 1, 0.5});
-    if (i <= 1) e.push_back({n - 1, 0.3});
-  };
-}
-
 void expect_certified(const Matrix& m, const SolveResult& r) {
   for (std::int64_t j = 0; j < r.pairs(); ++j) {
     EXPECT_LE(r.residual_norms[j], r.tolerance * r.norm_estimate * 1.0001) << "pair " << j;
@@ -117,7 +104,7 @@ TEST(MethodKrylov, PlantedComplexAndPlusMinusPairs) {
   MPI_Comm comm = MPI_COMM_WORLD;
   const std::int64_t n = 30;
   {
-    auto m = test::build_aij(comm, n, false, planted(3.0, 4.0, -4.0, 3.0, n));  // 3 +- 4i, modulus 5
+    auto m = test::build_aij(comm, n, false, test::planted_block(3.0, 4.0, -4.0, 3.0, n));  // 3 +- 4i, modulus 5
     ASSERT_TRUE(m.is_ok());
     // K = 1 asks for one value; the pair comes back whole.
     for (int k : {1, 2, 3}) {
@@ -139,7 +126,7 @@ TEST(MethodKrylov, PlantedComplexAndPlusMinusPairs) {
       EXPECT_NEAR(g[0] + g[static_cast<std::size_t>(r->pairs()) + 1], 1.0, 1e-10);  // unit complex vector
     }
   }
-  auto m = test::build_aij(comm, n, false, planted(0.0, 10.0, 2.5, 0.0, n));  // eigenvalues +5 and -5
+  auto m = test::build_aij(comm, n, false, test::planted_block(0.0, 10.0, 2.5, 0.0, n));  // eigenvalues +5 and -5
   ASSERT_TRUE(m.is_ok());
   auto r = solve(*m, test::quiet_options(2, "krylov", "magnitude"));
   ASSERT_TRUE(r.is_ok()) << r.status().message();

@@ -16,19 +16,6 @@ using namespace lodestone;
 
 namespace {
 
-// Block upper triangular: a 2x2 block on rows 0-1, then a diagonal 3.0, 2.8, ...
-// with upper couplings. Its eigenvalues are those of the 2x2 block plus the
-// diagonal (a triangular-block matrix's spectrum is its diagonal blocks').
-test::RowRule planted(double a, double b, double c, double d, std::int64_t n) {
-  return [=](std::int64_t i, test::Entries& e) {
-    if (i == 0) e.push_back({0, a}), e.push_back({1, b});
-    if (i == 1) e.push_back({0, c}), e.push_back({1, d});
-    if (i >= 2) e.push_back({i, 3.0 - 0.2 * static_cast<double>(i - 2)});
-    if (i + 1 < n && i >= 1) e.push_back({i + 1, 0.5});
-    if (i <= 1) e.push_back({n - 1, 0.3});
-  };
-}
-
 std::vector<std::complex<double>> reference_eigenvalues(std::int64_t n, const test::RowRule& rule) {
   auto a = test::full_dense(n, rule);
   std::vector<double> wr(n), wi(n);
@@ -65,7 +52,7 @@ void expect_match(const SolveResult& r, const std::vector<std::complex<double>>&
 TEST(MethodNonsymmetric, PlusMinusPairBlockFindsPowerReports) {
   MPI_Comm comm = MPI_COMM_WORLD;
   const std::int64_t n = 12;
-  auto rule = planted(0.0, 10.0, 2.5, 0.0, n);  // 2x2 block with eigenvalues +5 and -5
+  auto rule = test::planted_block(0.0, 10.0, 2.5, 0.0, n);  // 2x2 block with eigenvalues +5 and -5
   auto m = test::build_aij(comm, n, false, rule);
   ASSERT_TRUE(m.is_ok()) << m.status().message();
   auto r = solve(*m, test::quiet_options(2, "block", "magnitude"));
@@ -90,7 +77,7 @@ TEST(MethodNonsymmetric, PlusMinusPairBlockFindsPowerReports) {
 TEST(MethodNonsymmetric, ComplexPairBlockFindsPowerReports) {
   MPI_Comm comm = MPI_COMM_WORLD;
   const std::int64_t n = 12;
-  auto rule = planted(3.0, 4.0, -4.0, 3.0, n);  // eigenvalues 3 +- 4i, modulus 5
+  auto rule = test::planted_block(3.0, 4.0, -4.0, 3.0, n);  // eigenvalues 3 +- 4i, modulus 5
   auto m = test::build_aij(comm, n, false, rule);
   ASSERT_TRUE(m.is_ok());
   auto r = solve(*m, test::quiet_options(2, "block", "magnitude"));

@@ -97,6 +97,19 @@ inline RowRule planted_random(std::int64_t n, std::uint64_t seed, double scale, 
   };
 }
 
+// Block upper triangular: the 2x2 block [a b; c d] on rows 0-1, then the diagonal
+// 3.0, 2.8, ... with upper couplings. A block-triangular matrix's spectrum is that of
+// its diagonal blocks (closed form): the 2x2 block's pair plus the diagonal.
+inline RowRule planted_block(double a, double b, double c, double d, std::int64_t n) {
+  return [=](std::int64_t i, Entries& e) {
+    if (i == 0) e.push_back({0, a}), e.push_back({1, b});
+    if (i == 1) e.push_back({0, c}), e.push_back({1, d});
+    if (i >= 2) e.push_back({i, 3.0 - 0.2 * static_cast<double>(i - 2)});
+    if (i + 1 < n && i >= 1) e.push_back({i + 1, 0.5});
+    if (i <= 1) e.push_back({n - 1, 0.3});
+  };
+}
+
 // The whole matrix, on every rank (tests only: small n), row-major.
 inline std::vector<double> full_dense(std::int64_t n, const RowRule& rule) {
   std::vector<double> a(static_cast<std::size_t>(n * n), 0.0);
