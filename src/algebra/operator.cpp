@@ -36,16 +36,38 @@ Status Operator::apply_one(const Block& x, Block& y) {
   return Status::ok();
 }
 
-Status Operator::apply(const Block& x, Block& y) {
-  if (dense_path_ < 0) {
+Operator::Path Operator::path() {
+  if (path_ == Path::unknown) {
     PetscBool dense = PETSC_FALSE;
     PetscMPIInt size = 1;
-    LODESTONE_PETSC(PetscObjectTypeCompare(reinterpret_cast<PetscObject>(a_), MATMPIDENSE, &dense));
+    PetscObjectTypeCompare(reinterpret_cast<PetscObject>(a_), MATMPIDENSE, &dense);
     MPI_Comm_size(PetscObjectComm(reinterpret_cast<PetscObject>(a_)), &size);
-    dense_path_ = dense && size > 1 ? 1 : 0;
+    path_ = dense && size > 1 ? Path::dense : SparseProduct::handles(a_) ? Path::sparse : Path::petsc;
   }
-  if (dense_path_ == 1) return apply_dense(x, y);
+  return path_;
+}
+
+bool Operator::fuses(int cols) { return path() == Path::sparse && SparseProduct::fits(a_, cols); }
+
+Status Operator::apply_shifted(const Block& x, Block& y, double alpha, double shift, double beta) {
+  if (!fuses(x.cols())) return Status::input("internal: a fused product was asked of a matrix without one");
+  LODESTONE_TRY(sparse_.apply(a_, x, y, alpha, shift, beta));
+  matvecs_ += x.cols();
+  return Status::ok();
+}
+
+Status Operator::apply_shifted_rows(int cols, const double* x, double* y, double alpha, double shift, double beta) {
+  if (!fuses(cols)) return Status::input("internal: a fused product was asked of a matrix without one");
+  LODESTONE_TRY(sparse_.apply_rows(a_, cols, x, y, alpha, shift, beta));
+  matvecs_ += cols;
+  return Status::ok();
+}
+
+Status Operator::apply(const Block& x, Block& y) {
+  const Path p = path();
+  if (p == Path::dense) return apply_dense(x, y);
   if (x.cols() == 1) return apply_one(x, y);
+  if (fuses(x.cols())) return apply_shifted(x, y, 1.0, 0.0, 0.0);
   Mat c = y.mat();
   // Each output block keeps its own product object; a different input block of the
   // same shape is swapped in without redoing the symbolic phase.

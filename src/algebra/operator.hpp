@@ -1,7 +1,8 @@
-// Operator: the matrix as the methods see it — block products Y = A X through
-// PETSc's sparse (or dense) times dense-multi-vector kernel, one pass over the
-// matrix per block, with a running count of single-vector products (a block of
-// b columns counts b) and cheap norm estimates.
+// Operator: the matrix as the methods see it — block products Y = A X (for an
+// AIJ matrix through Lodestone's own sparse x block kernel, which can also fold a
+// shift and an update into the same pass; otherwise PETSc's sparse or dense times
+// dense-multi-vector product), with a running count of single-vector products (a
+// block of b columns counts b) and cheap norm estimates.
 #pragma once
 
 #include <petscmat.h>
@@ -10,6 +11,7 @@
 #include <vector>
 
 #include "algebra/block.hpp"
+#include "algebra/sparse_product.hpp"
 #include "lodestone/status.hpp"
 
 namespace lodestone::algebra {
@@ -26,6 +28,14 @@ class Operator {
   // structure is set up once per (column count) and reused for every call. A
   // dense matrix on more than one rank takes apply_dense's path instead.
   Status apply(const Block& x, Block& y);
+  // True when apply_shifted runs as one pass over the matrix for a block of `cols`
+  // columns (an AIJ matrix); otherwise a method does the product and the update itself.
+  bool fuses(int cols);
+  // Collective. Y = alpha (A X - shift X) + beta Y in one pass; only when fuses(X's columns).
+  Status apply_shifted(const Block& x, Block& y, double alpha, double shift, double beta);
+  // The same on this rank's rows held interlaced (x[i * cols + j]; see
+  // SparseProduct::apply_rows); only when fuses(cols).
+  Status apply_shifted_rows(int cols, const double* x, double* y, double alpha, double shift, double beta);
   std::int64_t matvecs() const { return matvecs_; }
   void set_matvecs(std::int64_t m) { matvecs_ = m; }
 
@@ -41,7 +51,11 @@ class Operator {
 
   Mat a_ = nullptr;
   std::int64_t matvecs_ = 0;
-  int dense_path_ = -1;               // unknown until the first product; then 0 or 1
+  // Which product the matrix takes, found at the first product.
+  enum class Path { unknown, dense, sparse, petsc };
+  Path path();
+  Path path_ = Path::unknown;
+  SparseProduct sparse_;
   Vec x1_ = nullptr, y1_ = nullptr;   // apply_one's vectors, laid over the blocks' storage
   std::vector<double> gathered_;      // X from every rank, rank by rank (each piece m_r x b)
   std::vector<int> counts_, displs_;  // of the gather, in values

@@ -97,14 +97,18 @@ class ChebyshevMethod final : public SubspaceMethod {
     return static_cast<int>(std::clamp<double>(m, kMinDegree, kMaxDegree));
   }
 
+  // f1_ holds the second recurrence block; z_ = A Y_k only where the product and
+  // the update cannot be one pass (a matrix that is not AIJ).
   Status ensure_buffers() {
     if (f1_.mat() == nullptr || f1_.cols() != active_) {
       auto f = algebra::Block::like(op_->mat(), active_);
       if (!f) return f.status();
-      auto z = algebra::Block::like(op_->mat(), active_);
-      if (!z) return z.status();
       f1_ = std::move(*f);
-      z_ = std::move(*z);
+      if (!op_->fuses(active_)) {
+        auto z = algebra::Block::like(op_->mat(), active_);
+        if (!z) return z.status();
+        z_ = std::move(*z);
+      }
     }
     return Status::ok();
   }
@@ -120,9 +124,48 @@ class ChebyshevMethod final : public SubspaceMethod {
     const double x0 = (gamma - e) / h;
     degree_ = choose_degree(e, h);
     LODESTONE_TRY(ensure_buffers());
+    const double r0 = 1.0 / x0;
+    return op_->fuses(active_) ? filter_interlaced(e, h, x0, r0) : filter_by_columns(e, h, x0, r0);
+  }
+
+  // The recurrence on the blocks' rows held interlaced, each step one fused pass over
+  // the matrix. Y_0 = X goes into f1_'s storage and Y_1 into X's, so the filter needs
+  // no storage beyond the two blocks; the result is put back column by column.
+  Status filter_interlaced(double e, double h, double x0, double r_prev) {
     const PetscInt rows = x_.local_rows();
+    const int k = active_;
+    double* y0 = f1_.data();
+    double* y1 = x_.data();
+    algebra::to_rows(x_, y0);
     // Y_1 = (W - e X) r_0 / h, using W = A X from the last Rayleigh-Ritz step.
-    double r_prev = 1.0 / x0;
+    const double s = r_prev / h;
+    for (int j = 0; j < k; ++j) {
+      const double* w = w_.column(j);
+      for (PetscInt i = 0; i < rows; ++i) y1[i * k + j] = s * (w[i] - e * y0[i * k + j]);
+    }
+    double* prev = y0;
+    double* cur = y1;
+    for (int step = 1; step < degree_; ++step) {
+      const double r = 1.0 / (2.0 * x0 - r_prev);
+      // Y_{k-1} <- alpha (A Y_k - e Y_k) + beta Y_{k-1}, which becomes Y_{k+1}.
+      LODESTONE_TRY(agree(comm_, op_->apply_shifted_rows(k, cur, prev, 2.0 * r / h, e, -r * r_prev)));
+      std::swap(prev, cur);
+      r_prev = r;
+    }
+    if (cur == y1) {
+      algebra::from_rows(cur, f1_);
+      std::swap(x_, f1_);
+    } else {
+      algebra::from_rows(cur, x_);
+    }
+    f1_.changed();
+    return Status::ok();
+  }
+
+  // The same with A Y_k in a block of its own and the update as a second pass (a
+  // matrix the fused product does not take).
+  Status filter_by_columns(double e, double h, double x0, double r_prev) {
+    const PetscInt rows = x_.local_rows();
     {
       const double s = r_prev / h;
       for (int j = 0; j < active_; ++j) {
@@ -136,9 +179,9 @@ class ChebyshevMethod final : public SubspaceMethod {
     algebra::Block* prev = &x_;
     algebra::Block* cur = &f1_;
     for (int k = 1; k < degree_; ++k) {
-      LODESTONE_TRY(agree(comm_, op_->apply(*cur, z_)));
       const double r = 1.0 / (2.0 * x0 - r_prev);
       const double alpha = 2.0 * r / h, beta = -r * r_prev;
+      LODESTONE_TRY(agree(comm_, op_->apply(*cur, z_)));
       for (int j = 0; j < active_; ++j) {
         const double* z = z_.column(j);
         const double* c = cur->column(j);

@@ -1,0 +1,66 @@
+// Sparse (AIJ) matrix times a dense block, Y = alpha (A X - shift X) + beta Y, in
+// one pass over the local rows: each row of the matrix is read once per eight
+// columns of the block, and the shift and the update of Y happen while the row's
+// sums are still in registers. PETSc 3.18's sparse x dense product reads the
+// matrix once per four columns, writes A X to a block of its own and needs a
+// second pass to combine it with X and Y (a Chebyshev step), which is why the
+// methods' hot loop runs this kernel instead (docs/benchmarks.md, target 3).
+//
+// On more than one rank the values of X that the local rows need from other
+// ranks (the ghost values, the off-diagonal part's columns) arrive through one
+// PETSc scatter per product for all columns at once, set up once per column count.
+#pragma once
+
+#include <petscmat.h>
+#include <petscvec.h>
+
+#include <map>
+#include <vector>
+
+#include "algebra/block.hpp"
+#include "lodestone/status.hpp"
+
+namespace lodestone::algebra {
+
+class SparseProduct {
+ public:
+  SparseProduct() = default;
+  SparseProduct(const SparseProduct&) = delete;
+  SparseProduct& operator=(const SparseProduct&) = delete;
+  ~SparseProduct();
+
+  // True when A is a PETSc AIJ matrix (MATSEQAIJ or MATMPIAIJ exactly) that this
+  // kernel can multiply; other types keep PETSc's own product.
+  static bool handles(Mat a);
+  // True when a block of `cols` columns can go through the kernel: its halo scatter
+  // indexes a vector of (global rows x cols) values, which must fit in a PetscInt.
+  static bool fits(Mat a, int cols);
+
+  // Collective. Y = alpha (A X - shift X) + beta Y; beta = 0 never reads Y. X and Y
+  // are distinct blocks with the same columns, laid out like A's columns and rows.
+  Status apply(Mat a, const Block& x, Block& y, double alpha, double shift, double beta);
+  // Collective. The same on this rank's rows held interlaced: row i's `cols` values
+  // side by side at x[i * cols + j] (local rows x cols each, cols the same on every
+  // rank). A loop of products (a Chebyshev filter) runs fastest in this layout:
+  // each stored entry meets its row of X in one contiguous load.
+  Status apply_rows(Mat a, int cols, const double* x, double* y, double alpha, double shift, double beta);
+
+ private:
+  struct Halo {
+    VecScatter scatter = nullptr;
+    Vec from = nullptr;  // over X's storage; (row r of rank q, column j) is global index
+                         // k r0_q + j m_q + r - r0_q by columns, k r + j interlaced
+    Vec to = nullptr;    // over the ghost values: j * ghosts + g by columns, g k + j interlaced
+  };
+  Result<Halo*> halo(Mat a, int cols, bool interlaced, PetscInt ghosts, const PetscInt* garray);
+  Status product(Mat a, int cols, bool interlaced, const double* x, double* y, double alpha, double shift, double beta);
+
+  std::map<int, Halo> halos_;  // by 2 x column count + (interlaced ? 1 : 0)
+  std::vector<double> ghost_values_;
+};
+
+// This rank's rows of X interlaced into `rows` (local rows x cols values), and back.
+void to_rows(const Block& x, double* rows);
+void from_rows(const double* rows, Block& x);
+
+}  // namespace lodestone::algebra
