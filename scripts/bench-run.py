@@ -159,32 +159,40 @@ def parse_log_view(path):
     for line in text.splitlines():
         parts = line.split()
         if len(parts) > 4 and parts[0] in ("MatMatMultNum", "MatProductNumeric", "MatMult", "MatMatMult",
-                                           "MatProductSymbolic", "MatMatMultSym", "LdsDenseBlockProd"):
+                                           "MatProductSymbolic", "MatMatMultSym", "LdsDenseBlockProd",
+                                           "LdsSparseBlockProd", "LdsSparseBlockUpd"):
             try:
                 events[parts[0]] = (int(parts[1]), float(parts[3]))  # count (max), time (max)
             except ValueError:
                 pass
     # The numeric phase of the block product (PETSc 3.18 logs MatMatMult's as MatMatMultNum, or
     # MatProductNumeric in other versions), plus plain MatMult where single vectors are multiplied,
-    # plus Lodestone's own dense product on more than one rank (LdsDenseBlockProd, algebra/operator.cpp).
+    # plus Lodestone's own dense product on more than one rank (LdsDenseBlockProd, algebra/operator.cpp)
+    # and its own sparse product (LdsSparseBlockProd: Y = A X; LdsSparseBlockUpd: Y = a (A X - s X) + b Y,
+    # which also reads the old Y; algebra/sparse_product.cpp).
     seconds = 0.0
     calls = 0
-    for name in ("MatMatMultNum" if "MatMatMultNum" in events else "MatProductNumeric", "MatMult", "LdsDenseBlockProd"):
+    for name in ("MatMatMultNum" if "MatMatMultNum" in events else "MatProductNumeric", "MatMult", "LdsDenseBlockProd",
+                 "LdsSparseBlockProd", "LdsSparseBlockUpd"):
         if name in events:
             calls += events[name][0]
             seconds += events[name][1]
-    return {"calls": calls, "seconds": seconds, "events": events}
+    updates = events.get("LdsSparseBlockUpd", (0, 0.0))[0]
+    return {"calls": calls, "update_calls": updates, "seconds": seconds, "events": events}
 
 
-def product_bytes(calls, matvecs, n, nnz, dense):
+def product_bytes(calls, matvecs, n, nnz, dense, update_calls=0):
     """Bytes the product phase moves (stated formula, docs/benchmarks.md):
     once per product call, whatever its block width: the matrix
       CSR: nnz x (8 B value + INDEX_BYTES column index) + (n + 1) x INDEX_BYTES row offsets
       dense: n x n x 8 B
-    and once per vector (matvecs counts each column of a block): read x, write y = n x 16 B.
-    Halo (ghost) values exchanged between ranks are not counted."""
+    and once per vector (matvecs counts each column of a block): read x, write y = n x 16 B;
+    a fused update (Y = a (A X - s X) + b Y, update_calls of the calls) also reads the old Y:
+    n x 8 B per vector, its vectors taken as update_calls / calls of all (the calls of one
+    solve have nearly one width). Halo (ghost) values exchanged between ranks are not counted."""
     matrix = n * n * 8.0 if dense else nnz * (8.0 + INDEX_BYTES) + (n + 1) * INDEX_BYTES
-    return calls * matrix + matvecs * n * 16.0
+    update_vectors = matvecs * update_calls / calls if calls > 0 else 0.0
+    return calls * matrix + matvecs * n * 16.0 + update_vectors * n * 8.0
 
 
 def auto_method(symmetric):
@@ -253,7 +261,8 @@ def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad):
     if logs:
         t = median([l["seconds"] for l in logs])
         calls = logs[-1]["calls"]
-        bytes_ = product_bytes(calls, last["matvecs"], info["rows"], info["nnz"], info["dense"])
+        bytes_ = product_bytes(calls, last["matvecs"], info["rows"], info["nnz"], info["dense"],
+                               logs[-1].get("update_calls", 0))
         row["product_s"] = t
         row["product_calls"] = calls
         row["product_gbs"] = bytes_ / t / 1e9 if t > 0 else None

@@ -47,17 +47,17 @@ Operator::Path Operator::path() {
   return path_;
 }
 
-bool Operator::fuses(int cols) { return path() == Path::sparse && SparseProduct::fits(a_, cols); }
+bool Operator::fuses() { return path() == Path::sparse; }
 
 Status Operator::apply_shifted(const Block& x, Block& y, double alpha, double shift, double beta) {
-  if (!fuses(x.cols())) return Status::input("internal: a fused product was asked of a matrix without one");
+  if (!fuses()) return Status::input("internal: a fused product was asked of a matrix without one");
   LODESTONE_TRY(sparse_.apply(a_, x, y, alpha, shift, beta));
   matvecs_ += x.cols();
   return Status::ok();
 }
 
 Status Operator::apply_shifted_rows(int cols, const double* x, double* y, double alpha, double shift, double beta) {
-  if (!fuses(cols)) return Status::input("internal: a fused product was asked of a matrix without one");
+  if (!fuses()) return Status::input("internal: a fused product was asked of a matrix without one");
   LODESTONE_TRY(sparse_.apply_rows(a_, cols, x, y, alpha, shift, beta));
   matvecs_ += cols;
   return Status::ok();
@@ -67,7 +67,7 @@ Status Operator::apply(const Block& x, Block& y) {
   const Path p = path();
   if (p == Path::dense) return apply_dense(x, y);
   if (x.cols() == 1) return apply_one(x, y);
-  if (fuses(x.cols())) return apply_shifted(x, y, 1.0, 0.0, 0.0);
+  if (p == Path::sparse) return apply_shifted(x, y, 1.0, 0.0, 0.0);
   Mat c = y.mat();
   // Each output block keeps its own product object; a different input block of the
   // same shape is swapped in without redoing the symbolic phase.

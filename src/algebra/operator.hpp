@@ -28,13 +28,13 @@ class Operator {
   // structure is set up once per (column count) and reused for every call. A
   // dense matrix on more than one rank takes apply_dense's path instead.
   Status apply(const Block& x, Block& y);
-  // True when apply_shifted runs as one pass over the matrix for a block of `cols`
-  // columns (an AIJ matrix); otherwise a method does the product and the update itself.
-  bool fuses(int cols);
-  // Collective. Y = alpha (A X - shift X) + beta Y in one pass; only when fuses(X's columns).
+  // True when apply_shifted runs as one pass over the matrix (an AIJ matrix);
+  // otherwise a method does the product and the update itself.
+  bool fuses();
+  // Collective. Y = alpha (A X - shift X) + beta Y in one pass; only when fuses().
   Status apply_shifted(const Block& x, Block& y, double alpha, double shift, double beta);
   // The same on this rank's rows held interlaced (x[i * cols + j]; see
-  // SparseProduct::apply_rows); only when fuses(cols).
+  // SparseProduct::apply_rows); only when fuses().
   Status apply_shifted_rows(int cols, const double* x, double* y, double alpha, double shift, double beta);
   std::int64_t matvecs() const { return matvecs_; }
   void set_matvecs(std::int64_t m) { matvecs_ = m; }

@@ -8,11 +8,12 @@
 //
 // On more than one rank the values of X that the local rows need from other
 // ranks (the ghost values, the off-diagonal part's columns) arrive through one
-// PETSc scatter per product for all columns at once, set up once per column count.
+// PETSc star forest set up once: interlaced, a row's values of all columns travel
+// as one unit in one exchange; by columns, one exchange per column.
 #pragma once
 
 #include <petscmat.h>
-#include <petscvec.h>
+#include <petscsf.h>
 
 #include <map>
 #include <vector>
@@ -32,9 +33,6 @@ class SparseProduct {
   // True when A is a PETSc AIJ matrix (MATSEQAIJ or MATMPIAIJ exactly) that this
   // kernel can multiply; other types keep PETSc's own product.
   static bool handles(Mat a);
-  // True when a block of `cols` columns can go through the kernel: its halo scatter
-  // indexes a vector of (global rows x cols) values, which must fit in a PetscInt.
-  static bool fits(Mat a, int cols);
 
   // Collective. Y = alpha (A X - shift X) + beta Y; beta = 0 never reads Y. X and Y
   // are distinct blocks with the same columns, laid out like A's columns and rows.
@@ -46,16 +44,14 @@ class SparseProduct {
   Status apply_rows(Mat a, int cols, const double* x, double* y, double alpha, double shift, double beta);
 
  private:
-  struct Halo {
-    VecScatter scatter = nullptr;
-    Vec from = nullptr;  // over X's storage; (row r of rank q, column j) is global index
-                         // k r0_q + j m_q + r - r0_q by columns, k r + j interlaced
-    Vec to = nullptr;    // over the ghost values: j * ghosts + g by columns, g k + j interlaced
-  };
-  Result<Halo*> halo(Mat a, int cols, bool interlaced, PetscInt ghosts, const PetscInt* garray);
+  // The ghost values of X's columns into ghost_values_: interlaced, ghost g's row at
+  // g * cols; by columns, column j at j * ghosts.
+  Status exchange(Mat a, int cols, bool interlaced, const double* x, PetscInt rows, PetscInt ghosts,
+                  const PetscInt* garray);
   Status product(Mat a, int cols, bool interlaced, const double* x, double* y, double alpha, double shift, double beta);
 
-  std::map<int, Halo> halos_;  // by 2 x column count + (interlaced ? 1 : 0)
+  PetscSF sf_ = nullptr;                        // ghost columns <- their owning rows, set up once
+  std::map<int, MPI_Datatype> row_types_;       // `cols` contiguous doubles, one per width used
   std::vector<double> ghost_values_;
 };
 

@@ -104,7 +104,7 @@ class ChebyshevMethod final : public SubspaceMethod {
       auto f = algebra::Block::like(op_->mat(), active_);
       if (!f) return f.status();
       f1_ = std::move(*f);
-      if (!op_->fuses(active_)) {
+      if (!op_->fuses()) {
         auto z = algebra::Block::like(op_->mat(), active_);
         if (!z) return z.status();
         z_ = std::move(*z);
@@ -125,7 +125,7 @@ class ChebyshevMethod final : public SubspaceMethod {
     degree_ = choose_degree(e, h);
     LODESTONE_TRY(ensure_buffers());
     const double r0 = 1.0 / x0;
-    return op_->fuses(active_) ? filter_interlaced(e, h, x0, r0) : filter_by_columns(e, h, x0, r0);
+    return op_->fuses() ? filter_interlaced(e, h, x0, r0) : filter_by_columns(e, h, x0, r0);
   }
 
   // The recurrence on the blocks' rows held interlaced, each step one fused pass over

@@ -59,14 +59,14 @@ TEST(SparseProduct, TakesAijMatricesOnly) {
   ASSERT_TRUE(sparse.is_ok()) << sparse.status().message();
   EXPECT_TRUE(algebra::SparseProduct::handles(sparse->petsc()));
   algebra::Operator op(sparse->petsc());
-  EXPECT_TRUE(op.fuses(12));
+  EXPECT_TRUE(op.fuses());
   auto dense = test::build_file(MPI_COMM_WORLD, 9, true, true, [](std::int64_t i, test::Entries& e) {
     for (std::int64_t j = 0; j < 9; ++j) e.push_back({j, i == j ? 2.0 : 0.1});
   });
   ASSERT_TRUE(dense.is_ok()) << dense.status().message();
   EXPECT_FALSE(algebra::SparseProduct::handles(dense->petsc()));
   algebra::Operator dense_op(dense->petsc());
-  EXPECT_FALSE(dense_op.fuses(12));
+  EXPECT_FALSE(dense_op.fuses());
 }
 
 TEST(SparseProduct, MatchesMatMultForEveryWidthAndLayout) {
