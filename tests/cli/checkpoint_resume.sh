@@ -167,14 +167,15 @@ run 2 "$LODESTONE" solve "$tmp/ns.h5" "${SYM[@]}" --checkpoint "$ck" --resume --
 
 # --time-budget: stops by itself with status 3; its checkpoint resumes (and a
 # second budgeted job either stops again further on or finishes).
-# The budget is a quarter of this machine's own uninterrupted solve time, so the
+# The budget is a twentieth of this machine's own uninterrupted solve time, so the
 # first job stops part-way however fast the machine is — even when the load around
-# it drops and the budgeted run goes three times faster than the reference did (at
-# 0.4 of a 60 x 45 solve, a reference slowed by other tests once left the budgeted
-# run time to finish). The 100 x 75 Laplacian takes seconds, not fractions of one.
+# it drops and the budgeted run goes many times faster than the reference did (a
+# quarter of the reference once left a fast budgeted run time to finish, in a full
+# parallel test run). Every budgeted job still does at least one iteration and
+# checkpoints it, so each pass advances. The 100 x 75 Laplacian takes seconds.
 cp "$tmp/mid.h5" "$tmp/big.h5"
 run 2 "$LODESTONE" solve "$tmp/big.h5" "${SYM[@]}" --quiet --out "$tmp/big-ref.h5"
-budget=$("$py" -c 'import sys, h5py; print("%.3fs" % max(0.05, 0.25 * float(h5py.File(sys.argv[1]).attrs["elapsed_seconds"])))' \
+budget=$("$py" -c 'import sys, h5py; print("%.3fs" % max(0.05, 0.05 * float(h5py.File(sys.argv[1]).attrs["elapsed_seconds"])))' \
   "$tmp/big-ref.h5")
 echo "time budget per job: $budget"
 ck="$tmp/budget.ckpt.h5"
