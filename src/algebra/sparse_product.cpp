@@ -46,8 +46,8 @@ PetscErrorCode restore_rows(Mat m, Rows& r) {
 // W columns starting at column pointers x (ld ldx), ghost values g (ld ldg), output y (ld ldy).
 // ReadY: beta != 0 (the old Y enters the update).
 template <int W, bool ReadY>
-void chunk(const Rows& d, const Rows& o, const double* x, PetscInt ldx, const double* g, PetscInt ldg, double* y,
-           PetscInt ldy, double alpha, double shift, double beta) {
+void chunk(const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, const double* g, std::ptrdiff_t ldg,
+           double* y, std::ptrdiff_t ldy, double alpha, double shift, double beta) {
   const PetscInt m = d.count;
   for (PetscInt i = 0; i < m; ++i) {
     double acc[W] = {};
@@ -75,8 +75,8 @@ void chunk(const Rows& d, const Rows& o, const double* x, PetscInt ldx, const do
 }
 
 template <bool ReadY>
-void run_chunk(int w, const Rows& d, const Rows& o, const double* x, PetscInt ldx, const double* g, PetscInt ldg,
-               double* y, PetscInt ldy, double alpha, double shift, double beta) {
+void run_chunk(int w, const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, const double* g,
+               std::ptrdiff_t ldg, double* y, std::ptrdiff_t ldy, double alpha, double shift, double beta) {
   switch (w) {
     case 1: return chunk<1, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
     case 2: return chunk<2, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
@@ -306,7 +306,7 @@ void to_rows(const Block& x, double* rows) {
   const int cols = x.cols();
   for (int j = 0; j < cols; ++j) {
     const double* c = x.column(j);
-    for (PetscInt i = 0; i < m; ++i) rows[i * cols + j] = c[i];
+    for (PetscInt i = 0; i < m; ++i) rows[static_cast<std::ptrdiff_t>(i) * cols + j] = c[i];
   }
 }
 
@@ -315,7 +315,7 @@ void from_rows(const double* rows, Block& x) {
   const int cols = x.cols();
   for (int j = 0; j < cols; ++j) {
     double* c = x.column(j);
-    for (PetscInt i = 0; i < m; ++i) c[i] = rows[i * cols + j];
+    for (PetscInt i = 0; i < m; ++i) c[i] = rows[static_cast<std::ptrdiff_t>(i) * cols + j];
   }
   x.changed();
 }

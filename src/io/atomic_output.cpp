@@ -29,11 +29,12 @@ std::string directory_of(const std::string& path) {
   return p.has_parent_path() ? p.parent_path().string() : std::string(".");
 }
 
-Status fsync_file(const std::string& path) {
+Status fsync_file(const std::string& path, bool drop_cached) {
   int fd = ::open(path.c_str(), O_RDONLY);
   if (fd < 0) return Status::input(fmt::format("{}: cannot open for sync: {}", path, std::strerror(errno)));
   int rc = ::fsync(fd);
   int err = errno;
+  if (rc == 0 && drop_cached) ::posix_fadvise(fd, 0, 0, POSIX_FADV_DONTNEED);  // a hint: its failure changes nothing
   ::close(fd);
   if (rc != 0) return Status::input(fmt::format("{}: fsync failed: {}", path, std::strerror(err)));
   return Status::ok();

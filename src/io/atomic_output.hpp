@@ -59,7 +59,11 @@ Status check_size_limit(MPI_Comm comm, const std::string& path, double bytes, co
 
 // The directory a path lives in ("." for a bare name).
 std::string directory_of(const std::string& path);
-Status fsync_file(const std::string& path);
+// fsync. With drop_cached, the file's pages (clean after the sync) then leave the
+// page cache: a checkpoint is read again only on a resume, and new writes reuse the
+// memory instead of claiming more (on this project's virtual machines a second
+// 288 MB file written while the first was still cached took 1.2 s against 0.2 s).
+Status fsync_file(const std::string& path, bool drop_cached = false);
 // Best effort: some file systems refuse to sync a directory.
 void fsync_directory(const std::string& dir);
 // Rank 0 removes `path` (for abandoned temporaries; safe after MPI_Finalize).

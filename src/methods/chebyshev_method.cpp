@@ -16,6 +16,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstddef>
 
 #include "methods/lanczos.hpp"
 #include "methods/subspace.hpp"
@@ -141,7 +142,10 @@ class ChebyshevMethod final : public SubspaceMethod {
     const double s = r_prev / h;
     for (int j = 0; j < k; ++j) {
       const double* w = w_.column(j);
-      for (PetscInt i = 0; i < rows; ++i) y1[i * k + j] = s * (w[i] - e * y0[i * k + j]);
+      for (PetscInt i = 0; i < rows; ++i) {
+        const std::ptrdiff_t at = static_cast<std::ptrdiff_t>(i) * k + j;
+        y1[at] = s * (w[i] - e * y0[at]);
+      }
     }
     double* prev = y0;
     double* cur = y1;

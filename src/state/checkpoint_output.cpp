@@ -67,7 +67,7 @@ Status GenerationalOutput::commit() {
   MPI_Barrier(comm_);  // every rank has closed the temporary file
   Status s;
   if (comm_rank(comm_) == 0) {
-    s = fsync_file(temp_);
+    s = fsync_file(temp_, /*drop_cached=*/true);
     const std::string previous = previous_checkpoint_path(final_);
     std::error_code ec;
     if (s && fs::exists(final_, ec)) {
