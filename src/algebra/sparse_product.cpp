@@ -195,6 +195,9 @@ constexpr int kChunk = 12;  // columns per pass over the matrix at most: their s
 }  // namespace
 
 SparseProduct::~SparseProduct() {
+  int finalized = 0;
+  MPI_Finalized(&finalized);
+  if (finalized) return;  // MPI and PETSc have released everything already
   if (sf_) PetscSFDestroy(&sf_);
   for (auto& [cols, type] : row_types_) MPI_Type_free(&type);
 }
