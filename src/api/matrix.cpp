@@ -9,6 +9,7 @@
 #include "io/h5.hpp"
 #include "io/matrix_reader.hpp"
 #include "support/collective.hpp"
+#include "support/log_stage.hpp"
 #include "support/petsc_status.hpp"
 
 namespace lodestone {
@@ -32,6 +33,7 @@ Matrix::~Matrix() {
 MPI_Comm Matrix::comm() const { return PetscObjectComm(reinterpret_cast<PetscObject>(mat_)); }
 
 Result<Matrix> Matrix::load(MPI_Comm comm, const std::string& path, const LoadOptions& options) {
+  LogStage stage("Load matrix");
   auto file = h5::open_read(comm, path);
   if (!file) return file.status();
   auto group = h5::open_group(file->get(), options.group, path);

@@ -2,11 +2,13 @@
 #include "lodestone/result.hpp"
 
 #include "io/result_file.hpp"
+#include "support/log_stage.hpp"
 
 namespace lodestone {
 
 Status write_result(MPI_Comm comm, const std::string& path, const SolveResult& result,
                     const std::vector<std::string>& inputs) {
+  LogStage stage("Write result");
   return io::write_result_file(comm, path, result, inputs);
 }
 

@@ -9,12 +9,14 @@
 #include <cmath>
 #include <cstdio>
 #include <limits>
+#include <optional>
 
 #include "algebra/operator.hpp"
 #include "methods/method.hpp"
 #include "state/solve_session.hpp"
 #include "support/collective.hpp"
 #include "support/format.hpp"
+#include "support/log_stage.hpp"
 #include "support/petsc_status.hpp"
 
 namespace lodestone {
@@ -106,6 +108,7 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   if (options.block_size != 0 && options.block_size < options.pairs && method_name != "power")
     return Status::usage(fmt::format("--block-size {} is smaller than --pairs {}", options.block_size, options.pairs));
 
+  std::optional<LogStage> stage(std::in_place, "Set up");
   auto norm = algebra::norm_estimate(matrix.petsc());
   LODESTONE_TRY(agree(comm, norm.status()));
   // Entries near 1e+-300 overflow or underflow in the squares that Gram
@@ -165,6 +168,7 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
                          options.tolerance * problem.norm_estimate * unscale);
     result.history.push_back(std::move(h));
   };
+  stage.emplace("Iterate");
   if (!*resumed) record();
   while (method->converged() < options.pairs) {
     if (options.max_matvecs > 0 && op.matvecs() >= options.max_matvecs) break;
@@ -174,6 +178,7 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     LODESTONE_TRY((*session)->boundary(*method, op, result.history, options.pairs, elapsed(), elapsed() - step_start));
   }
 
+  stage.emplace("Extract pairs");
   auto pairs = method->extract();
   if (!pairs) return pairs.status();
   result.eigenvalues = pairs->re;

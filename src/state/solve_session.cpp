@@ -8,6 +8,7 @@
 #include "state/stop_signals.hpp"
 #include "support/collective.hpp"
 #include "support/format.hpp"
+#include "support/log_stage.hpp"
 
 namespace lodestone::state {
 
@@ -67,6 +68,7 @@ Result<bool> SolveSession::resume(methods::Method& method, algebra::Operator& op
 
 Status SolveSession::write(methods::Method& method, algebra::Operator& op, const std::vector<HistoryRecord>& history,
                            std::int64_t pairs, double solve_seconds) {
+  LogStage stage("Write checkpoint");
   const double t = MPI_Wtime();
   methods::MethodState ms;
   LODESTONE_TRY(agree(matrix_.comm(), method.save(ms)));

@@ -5,7 +5,7 @@
 # same values at 1-3 ranks, `lodestone verify` passing on every result written,
 # exit 4 with the converged pairs kept when the matvec budget runs out (or the residuals
 # checked at the end miss the tolerance), and the
-# refusals for non-symmetric input.
+# refusals for non-symmetric input, and the phases of a run as stages of PETSc's profile.
 set -euo pipefail
 tmp="$(mktemp -d)"
 trap 'rm -rf "$tmp"' EXIT
@@ -85,6 +85,15 @@ grep -q "^the run converged $c of 6 pairs; pairs $((c + 1)) to 6 are shown but n
 # --quiet prints nothing on success.
 run 1 "$LODESTONE" solve "$tmp/plate.h5" --pairs 2 --quiet --out "$tmp/q.h5" >"$tmp/q.out" 2>&1
 [ ! -s "$tmp/q.out" ] || { cat "$tmp/q.out"; fail "--quiet printed something"; }
+
+# PETSc's profile (-log_view) is split into the run's phases, each a stage of its own (a time
+# budget makes the first iteration write a checkpoint, to time the write).
+run 2 "$LODESTONE" solve "$tmp/plate.h5" --pairs 2 --checkpoint "$tmp/ckpt.h5" --time-budget 10m --quiet \
+  --out "$tmp/staged.h5" --petsc -log_view >"$tmp/profile.out" 2>&1 || { cat "$tmp/profile.out" >&2; fail "solve with -log_view"; }
+for stage in "Load matrix" "Set up" "Iterate" "Write checkpoint" "Extract pairs" "Write result"; do
+  sed -n '/^Summary of Stages/,/^$/p' "$tmp/profile.out" | grep -q "^ *[0-9]*: *$stage:" \
+    || { cat "$tmp/profile.out" >&2; fail "-log_view has no stage '$stage'"; }
+done
 
 # Non-symmetric input: chebyshev and --select smallest are refused (exit 2, clear message).
 "$py" - "$tmp/ns.h5" <<'PY'
