@@ -185,50 +185,80 @@ class KrylovMethod final : public SubspaceMethod {
   // each pass one reduction of (V^T w, w^T w); a second pass always, a third if
   // the second still removed much. h receives the coefficients, the return value
   // is the remaining norm; w0 the norm before (both replicated).
+  //
+  // A pass that is followed by another applies its update and forms the next
+  // projection in one sweep over the basis, a block of rows at a time while the
+  // block is in cache (update_and_project): two passes read the basis three times,
+  // not four. w is column c, right after the basis, so one product with the
+  // c+1 leading columns gives V^T w and w^T w together.
   double orthogonalize(int c, std::vector<double>& h, double& w0) {
     const PetscInt rows = v_.local_rows();
-    PetscBLASInt bm = static_cast<PetscBLASInt>(rows), bc = c, one_i = 1;
     double* base = v_.data();
     double* w = base + static_cast<std::size_t>(c) * rows;
     h.assign(c, 0.0);
-    std::vector<double> buf(static_cast<std::size_t>(c) + 1);
+    std::vector<double> buf(static_cast<std::size_t>(c) + 1, 0.0);
+    project(rows, c, base, buf.data());
+    algebra::sum_replicated(v_.comm(), buf.data(), c + 1);
+    double ww = buf[c];
+    w0 = std::sqrt(ww);
+    if (c == 0) return w0;
     double beta = -1;
     for (int pass = 0; pass < 3; ++pass) {
-      std::fill(buf.begin(), buf.end(), 0.0);
-      if (rows > 0 && c > 0) {
-        double one = 1.0, zero = 0.0;
-        BLASgemv_("T", &bm, &bc, &one, base, &bm, w, &one_i, &zero, buf.data(), &one_i);
-      }
-      double ww = 0;
-      for (PetscInt i = 0; i < rows; ++i) ww += w[i] * w[i];
-      buf[c] = ww;
-      algebra::sum_replicated(v_.comm(), buf.data(), c + 1);
-      ww = buf[c];
-      if (pass == 0) w0 = std::sqrt(ww);
-      if (c == 0) {
-        beta = std::sqrt(ww);
-        break;
-      }
-      if (rows > 0) {
-        double minus = -1.0, one = 1.0;
-        BLASgemv_("N", &bm, &bc, &minus, base, &bm, buf.data(), &one_i, &one, w, &one_i);
-      }
       double cc = 0;
       for (int i = 0; i < c; ++i) h[i] += buf[i], cc += buf[i] * buf[i];
       const double est = ww - cc;
-      if (pass >= 1 && est > 0.5 * ww) {
-        beta = std::sqrt(est);
+      if ((pass >= 1 && est > 0.5 * ww) || pass == 2) {
+        update(rows, c, base, buf.data());
+        if (pass >= 1 && est > 0.5 * ww) beta = std::sqrt(est);
         break;
       }
+      update_and_project(rows, c, base, buf);
+      algebra::sum_replicated(v_.comm(), buf.data(), c + 1);
+      ww = buf[c];
     }
     if (beta < 0) {  // three passes still removing much: measure what is left
-      double ww = 0;
-      for (PetscInt i = 0; i < rows; ++i) ww += w[i] * w[i];
-      algebra::sum_replicated(v_.comm(), &ww, 1);
-      beta = std::sqrt(ww);
+      double left = 0;
+      for (PetscInt i = 0; i < rows; ++i) left += w[i] * w[i];
+      algebra::sum_replicated(v_.comm(), &left, 1);
+      beta = std::sqrt(left);
     }
     v_.changed();
     return beta;
+  }
+
+  // out[0..c] = [V w]^T w over this rank's rows (V: the c columns before w).
+  static void project(PetscInt rows, int c, const double* base, double* out) {
+    std::fill(out, out + c + 1, 0.0);
+    if (rows == 0) return;
+    PetscBLASInt bm = static_cast<PetscBLASInt>(rows), bc = c + 1, one_i = 1;
+    double one = 1.0, zero = 0.0;
+    const double* w = base + static_cast<std::size_t>(c) * rows;
+    BLASgemv_("T", &bm, &bc, &one, base, &bm, w, &one_i, &zero, out, &one_i);
+  }
+
+  // w -= V coef.
+  static void update(PetscInt rows, int c, const double* base, const double* coef) {
+    if (rows == 0) return;
+    PetscBLASInt bm = static_cast<PetscBLASInt>(rows), bc = c, one_i = 1;
+    double minus = -1.0, one = 1.0;
+    double* w = const_cast<double*>(base) + static_cast<std::size_t>(c) * rows;
+    BLASgemv_("N", &bm, &bc, &minus, base, &bm, coef, &one_i, &one, w, &one_i);
+  }
+
+  // w -= V coef, then coef = [V w]^T w with the updated w, in one sweep over
+  // blocks of rows (the same sums as update() then project(), added up by block).
+  static void update_and_project(PetscInt rows, int c, double* base, std::vector<double>& coef) {
+    std::vector<double> next(static_cast<std::size_t>(c) + 1, 0.0);
+    constexpr PetscInt kBlockRows = 512;  // 512 rows x (c+1) columns stay in the core's cache
+    PetscBLASInt ld = static_cast<PetscBLASInt>(rows), bc = c, bc1 = c + 1, one_i = 1;
+    double minus = -1.0, one = 1.0;
+    double* w = base + static_cast<std::size_t>(c) * rows;
+    for (PetscInt r0 = 0; r0 < rows; r0 += kBlockRows) {
+      PetscBLASInt br = static_cast<PetscBLASInt>(std::min(kBlockRows, rows - r0));
+      BLASgemv_("N", &br, &bc, &minus, base + r0, &ld, coef.data(), &one_i, &one, w + r0, &one_i);
+      BLASgemv_("T", &br, &bc1, &one, base + r0, &ld, w + r0, &one_i, &one, next.data(), &one_i);
+    }
+    coef.swap(next);
   }
 
   // Numerically zero remainder: w lay in the span of the basis.
