@@ -66,7 +66,16 @@ Status Operator::apply_shifted_rows(int cols, const double* x, double* y, double
 Status Operator::apply(const Block& x, Block& y) {
   const Path p = path();
   if (p == Path::dense) return apply_dense(x, y);
-  if (x.cols() == 1) return apply_one(x, y);
+  if (x.cols() == 1) {
+    // PETSc's MatMult, unless the pattern is scattered: then the prefetching kernel.
+    bool own = false;
+    if (p == Path::sparse) {
+      auto s = sparse_.scattered(a_);
+      if (!s) return s.status();
+      own = *s;
+    }
+    if (!own) return apply_one(x, y);
+  }
   if (p == Path::sparse) return apply_shifted(x, y, 1.0, 0.0, 0.0);
   Mat c = y.mat();
   // Each output block keeps its own product object; a different input block of the

@@ -43,15 +43,23 @@ PetscErrorCode restore_rows(Mat m, Rows& r) {
   return MatRestoreRowIJ(m, 0, PETSC_FALSE, PETSC_FALSE, &r.count, &r.start, &r.col, &done);
 }
 
+// How far ahead (in stored entries) a scattered pattern's values of X are asked for.
+constexpr PetscInt kPrefetchAhead = 128;
+
 // W columns starting at column pointers x (ld ldx), ghost values g (ld ldg), output y (ld ldy).
-// ReadY: beta != 0 (the old Y enters the update).
-template <int W, bool ReadY>
+// ReadY: beta != 0 (the old Y enters the update). Prefetch: the pattern is scattered
+// (SparseProduct::scattered), so the value of X that an entry kPrefetchAhead places on
+// will need is asked for now; the processor's own prefetcher cannot guess those.
+template <int W, bool ReadY, bool Prefetch>
 void chunk(const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, const double* g, std::ptrdiff_t ldg,
            double* y, std::ptrdiff_t ldy, double alpha, double shift, double beta) {
   const PetscInt m = d.count;
+  const PetscInt dlast = m > 0 ? d.start[m] - 1 : 0;
+  const PetscInt olast = (o.start != nullptr && m > 0) ? o.start[m] - 1 : 0;
   for (PetscInt i = 0; i < m; ++i) {
     double acc[W] = {};
     for (PetscInt k = d.start[i]; k < d.start[i + 1]; ++k) {
+      if constexpr (Prefetch) __builtin_prefetch(x + d.col[std::min(k + kPrefetchAhead, dlast)]);
       const double v = d.val[k];
       const double* xc = x + d.col[k];
 #pragma GCC unroll 16
@@ -59,6 +67,7 @@ void chunk(const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, co
     }
     if (o.start != nullptr) {
       for (PetscInt k = o.start[i]; k < o.start[i + 1]; ++k) {
+        if constexpr (Prefetch) __builtin_prefetch(g + o.col[std::min(k + kPrefetchAhead, olast)]);
         const double v = o.val[k];
         const double* gc = g + o.col[k];
 #pragma GCC unroll 16
@@ -74,22 +83,49 @@ void chunk(const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, co
   }
 }
 
+// Prefetching pays for one or two columns, where each entry's use of X is a
+// single load; wider chunks keep enough loads in flight on their own.
 template <bool ReadY>
-void run_chunk(int w, const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, const double* g,
-               std::ptrdiff_t ldg, double* y, std::ptrdiff_t ldy, double alpha, double shift, double beta) {
+void run_chunk(int w, bool prefetch, const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx,
+               const double* g, std::ptrdiff_t ldg, double* y, std::ptrdiff_t ldy, double alpha, double shift,
+               double beta) {
+  if (prefetch && w == 1) return chunk<1, ReadY, true>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+  if (prefetch && w == 2) return chunk<2, ReadY, true>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
   switch (w) {
-    case 1: return chunk<1, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 2: return chunk<2, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 3: return chunk<3, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 4: return chunk<4, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 5: return chunk<5, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 6: return chunk<6, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 7: return chunk<7, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 8: return chunk<8, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 9: return chunk<9, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 10: return chunk<10, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    case 11: return chunk<11, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
-    default: return chunk<12, ReadY>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 1: return chunk<1, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 2: return chunk<2, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 3: return chunk<3, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 4: return chunk<4, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 5: return chunk<5, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 6: return chunk<6, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 7: return chunk<7, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 8: return chunk<8, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 9: return chunk<9, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 10: return chunk<10, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    case 11: return chunk<11, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+    default: return chunk<12, ReadY, false>(d, o, x, ldx, g, ldg, y, ldy, alpha, shift, beta);
+  }
+}
+
+// Of the sampled stored entries of the local rows, how many continue a column of the
+// row before, shifted by one (a stencil's or band's pattern: the next row needs the
+// next values of X, which the processor's prefetcher finds by itself), and how many
+// were sampled.
+void count_continued(const Rows& d, std::int64_t& continued, std::int64_t& sampled) {
+  constexpr PetscInt kSampleRows = 4096, kNear = 4;
+  continued = sampled = 0;
+  if (d.count < 2) return;
+  const PetscInt stride = std::max<PetscInt>(1, (d.count - 1) / kSampleRows);
+  for (PetscInt i = 1; i < d.count; i += stride) {
+    const PetscInt* prev = d.col + d.start[i - 1];
+    const PetscInt* prev_end = d.col + d.start[i];
+    for (PetscInt k = d.start[i]; k < d.start[i + 1]; ++k) {
+      // Both rows are sorted: the first column of the row before at or above col - 1 - kNear.
+      const PetscInt want = d.col[k] - 1;
+      prev = std::lower_bound(prev, prev_end, want - kNear);
+      continued += (prev != prev_end && *prev <= want + kNear) ? 1 : 0;
+      ++sampled;
+    }
   }
 }
 
@@ -202,6 +238,28 @@ SparseProduct::~SparseProduct() {
   for (auto& [cols, type] : row_types_) MPI_Type_free(&type);
 }
 
+Result<bool> SparseProduct::scattered(Mat a) {
+  if (scattered_ < 0) {
+    // counts: continued, sampled, ranks that could not read their rows.
+    std::int64_t counts[3] = {0, 0, 0};
+    Mat diag = a;
+    PetscBool mpi = PETSC_FALSE;
+    Rows d;
+    if (PetscObjectTypeCompare(reinterpret_cast<PetscObject>(a), MATMPIAIJ, &mpi) != 0 ||
+        (mpi && MatMPIAIJGetSeqAIJ(a, &diag, nullptr, nullptr) != 0) || get_rows(diag, d) != 0) {
+      counts[2] = 1;
+    } else {
+      count_continued(d, counts[0], counts[1]);
+      if (restore_rows(diag, d) != 0) counts[2] = 1;
+    }
+    // Every rank makes the same choice, so every rank runs the same kernel.
+    MPI_Allreduce(MPI_IN_PLACE, counts, 3, MPI_INT64_T, MPI_SUM, PetscObjectComm(reinterpret_cast<PetscObject>(a)));
+    if (counts[2] > 0) return Status::input("internal: the sparse product could not read the matrix's rows");
+    scattered_ = counts[1] > 0 && 2 * counts[0] < counts[1] ? 1 : 0;
+  }
+  return scattered_ == 1;
+}
+
 bool SparseProduct::handles(Mat a) {
   PetscBool seq = PETSC_FALSE, mpi = PETSC_FALSE;
   if (PetscObjectTypeCompare(reinterpret_cast<PetscObject>(a), MATSEQAIJ, &seq) != 0) return false;
@@ -254,6 +312,7 @@ Status SparseProduct::product(Mat a, int cols, bool interlaced, const double* x,
     LODESTONE_PETSC(MatMPIAIJGetSeqAIJ(a, &diag, &off, &garray));
     LODESTONE_PETSC(MatGetSize(off, nullptr, &ghosts));
   }
+  LODESTONE_TRY(scattered(a).status());
   const PetscLogEvent event = sparse_product_event(beta != 0.0);
   LODESTONE_PETSC(PetscLogEventBegin(event, a, 0, 0, 0));
   // The ghost values of every column (every rank takes part, ghosts or not).
@@ -280,9 +339,9 @@ Status SparseProduct::product(Mat a, int cols, bool interlaced, const double* x,
       const std::size_t at = static_cast<std::size_t>(c0) * static_cast<std::size_t>(m);
       const double* gc = g ? g + static_cast<std::size_t>(c0) * static_cast<std::size_t>(ghosts) : g;
       if (beta != 0.0)
-        run_chunk<true>(w, d, o, x + at, m, gc, ghosts, y + at, m, alpha, shift, beta);
+        run_chunk<true>(w, scattered_ == 1, d, o, x + at, m, gc, ghosts, y + at, m, alpha, shift, beta);
       else
-        run_chunk<false>(w, d, o, x + at, m, gc, ghosts, y + at, m, alpha, shift, beta);
+        run_chunk<false>(w, scattered_ == 1, d, o, x + at, m, gc, ghosts, y + at, m, alpha, shift, beta);
     }
     c0 += w;
   }

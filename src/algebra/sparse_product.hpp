@@ -43,6 +43,14 @@ class SparseProduct {
   // each stored entry meets its row of X in one contiguous load.
   Status apply_rows(Mat a, int cols, const double* x, double* y, double alpha, double shift, double beta);
 
+  // Collective on first use, then remembered. True when A's pattern is scattered:
+  // fewer than half of a sample of stored entries continue a column of the row before
+  // shifted by one (a stencil or band continues nearly all; a random graph almost
+  // none). Then the values of X are prefetched ahead in one- and two-column products,
+  // and a single product runs here rather than in PETSc's MatMult, which is the
+  // faster of the two on regular patterns (docs/benchmarks.md, case c).
+  Result<bool> scattered(Mat a);
+
  private:
   // The ghost values of X's columns into ghost_values_: interlaced, ghost g's row at
   // g * cols; by columns, column j at j * ghosts.
@@ -53,6 +61,7 @@ class SparseProduct {
   PetscSF sf_ = nullptr;                        // ghost columns <- their owning rows, set up once
   std::map<int, MPI_Datatype> row_types_;       // `cols` contiguous doubles, one per width used
   std::vector<double> ghost_values_;
+  int scattered_ = -1;                          // -1 not yet known, else 0 or 1
 };
 
 // This rank's rows of X interlaced into `rows` (local rows x cols values), and back.

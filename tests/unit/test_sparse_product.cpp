@@ -4,6 +4,7 @@
 // two and three passes over the matrix (and the leftover columns of each vector width).
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <vector>
 
@@ -103,11 +104,59 @@ TEST(SparseProduct, MatchesMatMultForEveryWidthAndLayout) {
         }
       }
     }
-    // The plain product (one column goes through MatMult on the block's storage).
+    // The plain product (one column goes through MatMult on the block's storage, or through
+    // this kernel when the pattern is scattered).
     ASSERT_TRUE(op.apply(*x, *y).is_ok());
     for (int j = 0; j < cols; ++j)
       for (PetscInt i = 0; i < rows; ++i) EXPECT_NEAR(y->column(j)[i], ax[j][i], 1e-13 * (1.0 + std::fabs(ax[j][i])));
     EXPECT_EQ(op.matvecs(), 5 * cols);
+  }
+}
+
+// The pattern test that picks the kernel for one- and two-column products: a band
+// (each row continues the columns of the row before) is regular, a matrix whose
+// entries are hashed anywhere in 3000 columns is scattered; every rank gets the same
+// answer. On the scattered one, one and two columns (the prefetching kernel, and
+// its own single-column product instead of MatMult) still equal MatMult.
+TEST(SparseProduct, TellsScatteredPatternsFromBands) {
+  const std::int64_t n = 3000;
+  auto band = test::build_file(MPI_COMM_WORLD, n, true, false, [&](std::int64_t i, test::Entries& e) {
+    for (std::int64_t j = std::max<std::int64_t>(0, i - 2); j <= std::min(n - 1, i + 2); ++j)
+      e.push_back({j, i == j ? 4.0 : -1.0});
+  });
+  ASSERT_TRUE(band.is_ok()) << band.status().message();
+  algebra::SparseProduct band_product;
+  auto regular = band_product.scattered(band->petsc());
+  ASSERT_TRUE(regular.is_ok());
+  EXPECT_FALSE(*regular);
+
+  auto wide = test::build_file(MPI_COMM_WORLD, n, false, false, [&](std::int64_t i, test::Entries& e) {
+    const auto u = static_cast<std::uint64_t>(i);
+    e.push_back({i, 2.0 + io::hashed_uniform(23, u, 0)});
+    for (std::uint64_t k = 1; k < 6; ++k) {
+      const auto j = static_cast<std::int64_t>(io::hashed_uniform(24, u, k) * static_cast<double>(n)) % n;
+      if (j != i) e.push_back({j, io::hashed_uniform(25, u, k) - 0.5});
+    }
+  });
+  ASSERT_TRUE(wide.is_ok()) << wide.status().message();
+  Mat a = wide->petsc();
+  algebra::SparseProduct wide_product;
+  auto scattered = wide_product.scattered(a);
+  ASSERT_TRUE(scattered.is_ok());
+  EXPECT_TRUE(*scattered);
+
+  for (int cols : {1, 2}) {
+    SCOPED_TRACE(cols);
+    algebra::Operator op(a);
+    auto x = Block::like(a, cols), y = Block::like(a, cols);
+    ASSERT_TRUE(x.is_ok() && y.is_ok());
+    algebra::fill_random(*x, 34, 0);
+    ASSERT_TRUE(op.apply(*x, *y).is_ok());
+    for (int j = 0; j < cols; ++j) {
+      const auto want = reference_column(a, *x, j);
+      for (PetscInt i = 0; i < x->local_rows(); ++i)
+        EXPECT_NEAR(y->column(j)[i], want[i], 1e-13 * (1.0 + std::fabs(want[i]))) << "row " << i << " column " << j;
+    }
   }
 }
 
