@@ -59,7 +59,10 @@ void chunk(const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, co
   for (PetscInt i = 0; i < m; ++i) {
     double acc[W] = {};
     for (PetscInt k = d.start[i]; k < d.start[i + 1]; ++k) {
-      if constexpr (Prefetch) __builtin_prefetch(x + d.col[std::min(k + kPrefetchAhead, dlast)]);
+      if constexpr (Prefetch) {
+        const double* ahead = x + d.col[std::min(k + kPrefetchAhead, dlast)];
+        for (int j = 0; j < W; ++j) __builtin_prefetch(ahead + j * ldx);
+      }
       const double v = d.val[k];
       const double* xc = x + d.col[k];
 #pragma GCC unroll 16
@@ -67,7 +70,10 @@ void chunk(const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, co
     }
     if (o.start != nullptr) {
       for (PetscInt k = o.start[i]; k < o.start[i + 1]; ++k) {
-        if constexpr (Prefetch) __builtin_prefetch(g + o.col[std::min(k + kPrefetchAhead, olast)]);
+        if constexpr (Prefetch) {
+          const double* ahead = g + o.col[std::min(k + kPrefetchAhead, olast)];
+          for (int j = 0; j < W; ++j) __builtin_prefetch(ahead + j * ldg);
+        }
         const double v = o.val[k];
         const double* gc = g + o.col[k];
 #pragma GCC unroll 16
@@ -83,8 +89,8 @@ void chunk(const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx, co
   }
 }
 
-// Prefetching pays for one or two columns, where each entry's use of X is a
-// single load; wider chunks keep enough loads in flight on their own.
+// Prefetching is compiled for one and two columns (a scattered pattern by columns
+// is multiplied two columns at a time, see product()).
 template <bool ReadY>
 void run_chunk(int w, bool prefetch, const Rows& d, const Rows& o, const double* x, std::ptrdiff_t ldx,
                const double* g, std::ptrdiff_t ldg, double* y, std::ptrdiff_t ldy, double alpha, double shift,
@@ -327,7 +333,10 @@ Status SparseProduct::product(Mat a, int cols, bool interlaced, const double* x,
   const PetscInt m = d.count;
   const double* g = ghosts > 0 ? ghost_values_.data() : nullptr;
   // Passes over the matrix: as few as the chunk allows, the columns split evenly among them.
-  const int passes = m > 0 ? (cols + kChunk - 1) / kChunk : 0;
+  // A scattered pattern by columns takes two columns per pass (each with its values
+  // of X prefetched): wider chunks without prefetching wait on every entry's loads.
+  const int chunk = (scattered_ == 1 && !interlaced) ? 2 : kChunk;
+  const int passes = m > 0 ? (cols + chunk - 1) / chunk : 0;
   for (int pass = 0, c0 = 0; pass < passes; ++pass) {
     const int w = (cols - c0) / (passes - pass);
     if (interlaced) {
