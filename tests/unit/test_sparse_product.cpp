@@ -116,8 +116,9 @@ TEST(SparseProduct, MatchesMatMultForEveryWidthAndLayout) {
 // The pattern test that picks the kernel for one- and two-column products: a band
 // (each row continues the columns of the row before) is regular, a matrix whose
 // entries are hashed anywhere in 3000 columns is scattered; every rank gets the same
-// answer. On the scattered one, one and two columns (the prefetching kernel, and
-// its own single-column product instead of MatMult) still equal MatMult.
+// answer. On the scattered one, blocks of 1, 2, 3 and 5 columns (two columns per pass,
+// prefetched; one column in this kernel instead of MatMult), plain and fused, still
+// equal MatMult.
 TEST(SparseProduct, TellsScatteredPatternsFromBands) {
   const std::int64_t n = 3000;
   auto band = test::build_file(MPI_COMM_WORLD, n, true, false, [&](std::int64_t i, test::Entries& e) {
@@ -145,17 +146,24 @@ TEST(SparseProduct, TellsScatteredPatternsFromBands) {
   ASSERT_TRUE(scattered.is_ok());
   EXPECT_TRUE(*scattered);
 
-  for (int cols : {1, 2}) {
+  for (int cols : {1, 2, 3, 5}) {
     SCOPED_TRACE(cols);
     algebra::Operator op(a);
-    auto x = Block::like(a, cols), y = Block::like(a, cols);
-    ASSERT_TRUE(x.is_ok() && y.is_ok());
+    auto x = Block::like(a, cols), y = Block::like(a, cols), z = Block::like(a, cols);
+    ASSERT_TRUE(x.is_ok() && y.is_ok() && z.is_ok());
     algebra::fill_random(*x, 34, 0);
+    algebra::fill_random(*z, 35, 0);
+    std::vector<std::vector<double>> z0;
+    for (int j = 0; j < cols; ++j) z0.emplace_back(z->column(j), z->column(j) + z->local_rows());
     ASSERT_TRUE(op.apply(*x, *y).is_ok());
+    ASSERT_TRUE(op.apply_shifted(*x, *z, 0.7, 0.3, -0.4).is_ok());
     for (int j = 0; j < cols; ++j) {
       const auto want = reference_column(a, *x, j);
-      for (PetscInt i = 0; i < x->local_rows(); ++i)
+      for (PetscInt i = 0; i < x->local_rows(); ++i) {
         EXPECT_NEAR(y->column(j)[i], want[i], 1e-13 * (1.0 + std::fabs(want[i]))) << "row " << i << " column " << j;
+        const double fused = 0.7 * (want[i] - 0.3 * x->column(j)[i]) - 0.4 * z0[j][i];
+        EXPECT_NEAR(z->column(j)[i], fused, 1e-13 * (1.0 + std::fabs(fused))) << "fused, row " << i << " column " << j;
+      }
     }
   }
 }
