@@ -25,8 +25,10 @@ class Operator {
 
   Mat mat() const { return a_; }
   // Collective. Y = A X. X and Y must have the same column count. The product
-  // structure is set up once per (column count) and reused for every call. A
-  // dense matrix on more than one rank takes apply_dense's path instead.
+  // structure is set up once per (column count) and reused for every call. An AIJ
+  // matrix goes through SparseProduct (one column through apply_one unless its
+  // pattern is scattered), a dense matrix on more than one rank through
+  // apply_dense.
   Status apply(const Block& x, Block& y);
   // True when apply_shifted runs as one pass over the matrix (an AIJ matrix);
   // otherwise a method does the product and the update itself.
@@ -46,7 +48,8 @@ class Operator {
   // once per product (n x b values: b of the rank's own matrix rows' length) and
   // the local rows multiply it with one BLAS-3 product per owning rank's piece.
   Status apply_dense(const Block& x, Block& y);
-  // One column: MatMult on vectors laid over the blocks' storage.
+  // One column: MatMult on vectors laid over the blocks' storage (apply() takes it
+  // unless the AIJ pattern is scattered: SparseProduct::scattered).
   Status apply_one(const Block& x, Block& y);
 
   Mat a_ = nullptr;

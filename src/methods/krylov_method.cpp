@@ -237,11 +237,11 @@ class KrylovMethod final : public SubspaceMethod {
   }
 
   // w -= V coef.
-  static void update(PetscInt rows, int c, const double* base, const double* coef) {
+  static void update(PetscInt rows, int c, double* base, const double* coef) {
     if (rows == 0) return;
     PetscBLASInt bm = static_cast<PetscBLASInt>(rows), bc = c, one_i = 1;
     double minus = -1.0, one = 1.0;
-    double* w = const_cast<double*>(base) + static_cast<std::size_t>(c) * rows;
+    double* w = base + static_cast<std::size_t>(c) * rows;
     BLASgemv_("N", &bm, &bc, &minus, base, &bm, coef, &one_i, &one, w, &one_i);
   }
 
