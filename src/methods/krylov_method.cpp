@@ -207,9 +207,10 @@ class KrylovMethod final : public SubspaceMethod {
       double cc = 0;
       for (int i = 0; i < c; ++i) h[i] += buf[i], cc += buf[i] * buf[i];
       const double est = ww - cc;
-      if ((pass >= 1 && est > 0.5 * ww) || pass == 2) {
+      const bool enough = pass >= 1 && est > 0.5 * ww;  // this pass removed little: w is clean
+      if (enough || pass == 2) {
         update(rows, c, base, buf.data());
-        if (pass >= 1 && est > 0.5 * ww) beta = std::sqrt(est);
+        if (enough) beta = std::sqrt(est);
         break;
       }
       update_and_project(rows, c, base, buf);
