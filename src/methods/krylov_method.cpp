@@ -4,8 +4,8 @@
 // V_k orthonormal (n x k), v_k the next unit direction orthogonal to it, S_k in
 // real Schur form (diagonal for symmetric input) with the wanted Ritz values
 // first. One step() is one restart cycle: the basis is extended column by column
-// to m (one product with A each, classical Gram-Schmidt applied twice with one
-// reduction per pass), the m x m projected matrix is brought to Schur form with
+// to m (one product with A each, classical Gram-Schmidt with one reduction per
+// pass, repeated when a pass removed much), the m x m projected matrix is brought to Schur form with
 // the wanted values first (a complex pair is never split), convergence is read
 // from b (the residual of a Ritz vector y is |b^T y|), and the decomposition is
 // truncated back to k columns.
@@ -182,9 +182,11 @@ class KrylovMethod final : public SubspaceMethod {
   }
 
   // Orthogonalizes column c of V against columns [0, c): classical Gram-Schmidt,
-  // each pass one reduction of (V^T w, w^T w); a second pass always, a third if
-  // the second still removed much. h receives the coefficients, the return value
-  // is the remaining norm; w0 the norm before (both replicated).
+  // each pass one reduction of (V^T w, w^T w). A pass that kept more than 1/sqrt(2)
+  // of w's norm is the last (the test of Daniel, Gragg, Kaufman and Stewart, 1976:
+  // what it left along V is then a rounding error of w's own size); otherwise
+  // another pass follows, three at most. h receives the coefficients, the return
+  // value is the remaining norm; w0 the norm before (both replicated).
   //
   // A pass that is followed by another applies its update and forms the next
   // projection in one sweep over the basis, a block of rows at a time while the
@@ -207,7 +209,7 @@ class KrylovMethod final : public SubspaceMethod {
       double cc = 0;
       for (int i = 0; i < c; ++i) h[i] += buf[i], cc += buf[i] * buf[i];
       const double est = ww - cc;
-      const bool enough = pass >= 1 && est > 0.5 * ww;  // this pass removed little: w is clean
+      const bool enough = est > 0.5 * ww;  // this pass removed little: w is clean
       if (enough || pass == 2) {
         update(rows, c, base, buf.data());
         if (enough) beta = std::sqrt(est);

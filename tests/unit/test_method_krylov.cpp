@@ -302,6 +302,79 @@ TEST(MethodKrylov, SaveHereRestoreOnOneRank) {
   EXPECT_EQ(again->converged, 3);
 }
 
+// Once the wanted pairs have converged the saved state is a Krylov-Schur decomposition
+// A V_k = V_k S_k + v b^T with [V_k v] orthonormal to rounding: checked directly
+// on a well-separated walk (one Gram-Schmidt pass usually suffices there) and on
+// a 1-D Laplacian (clustered, where w loses most of its norm and passes repeat).
+TEST(MethodKrylov, SavedStateIsAnOrthonormalKrylovSchurDecomposition) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  io::WalkOptions w;
+  w.n = 3000;
+  w.communities = 4;
+  w.mixing = 0.1;
+  const std::string path = test::temp_path(comm, "krylov_basis_walk.h5");
+  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", w.n, false, io::generate_walk(comm, w)).is_ok());
+  auto walk = Matrix::load(comm, path);
+  ASSERT_TRUE(walk.is_ok()) << walk.status().message();
+  auto lap = test::build_aij(comm, 300, true, laplace1d(300));
+  ASSERT_TRUE(lap.is_ok());
+  struct Case {
+    const Matrix* m;
+    bool symmetric;
+    methods::Selection selection;
+    double norm;
+  };
+  for (const Case& c : {Case{&*walk, false, methods::Selection::magnitude, 1.0},
+                        Case{&*lap, true, methods::Selection::largest, 4.0}}) {
+    SCOPED_TRACE(c.symmetric ? "laplace1d" : "walk");
+    methods::Problem problem;
+    problem.symmetric = c.symmetric;
+    problem.selection = c.selection;
+    problem.pairs = 4;
+    problem.tolerance = 1e-10;
+    problem.norm_estimate = c.norm;
+    problem.seed = 3;
+    algebra::Operator op(c.m->petsc());
+    auto method = methods::find_method("krylov")->make();
+    ASSERT_TRUE(method->setup(op, problem).is_ok());
+    // Until the wanted pairs have converged: then A v lies nearly in the basis for
+    // the converged directions, and a single pass would leave w far from orthogonal.
+    for (int s = 0; s < 400 && method->converged() < 4; ++s) ASSERT_TRUE(method->step().is_ok());
+    EXPECT_EQ(method->converged(), 4) << method->iterations() << " cycles";
+    methods::MethodState saved;
+    ASSERT_TRUE(method->save(saved).is_ok());
+    ASSERT_EQ(saved.blocks.size(), 1u);
+    const algebra::Block& v = saved.blocks[0].second;
+    const int k = v.cols() - 1;
+    ASSERT_GT(k, 0);
+    // [V_k v]^T [V_k v] = I.
+    const algebra::Small g = algebra::gram(v, v);
+    double worst = 0;
+    for (int j = 0; j <= k; ++j)
+      for (int i = 0; i <= k; ++i) worst = std::max(worst, std::fabs(g(i, j) - (i == j ? 1.0 : 0.0)));
+    EXPECT_LT(worst, 1e-12);
+    // A V_k - V_k S_k - v b^T = 0, column by column (S is column-major k x k).
+    const auto& s = saved.scalars["krylov_s"];
+    const auto& b = saved.scalars["krylov_b"];
+    auto vk = algebra::Block::like(c.m->petsc(), k);
+    auto av = algebra::Block::like(c.m->petsc(), k);
+    ASSERT_TRUE(vk.is_ok() && av.is_ok());
+    algebra::copy_columns(v, 0, *vk, 0, k);
+    ASSERT_TRUE(op.apply(*vk, *av).is_ok());
+    double local = 0;
+    for (int j = 0; j < k; ++j) {
+      for (PetscInt r = 0; r < v.local_rows(); ++r) {
+        double e = av->column(j)[r] - b[static_cast<std::size_t>(j)] * v.column(k)[r];
+        for (int i = 0; i < k; ++i) e -= v.column(i)[r] * s[static_cast<std::size_t>(j) * k + i];
+        local = std::max(local, std::fabs(e));
+      }
+    }
+    double global = 0;
+    MPI_Allreduce(&local, &global, 1, MPI_DOUBLE, MPI_MAX, comm);
+    EXPECT_LT(global, 1e-12 * c.norm);
+  }
+}
+
 // On a damped random walk with well-separated communities (the benchmark's kind
 // of matrix, scaled down), Krylov-Schur needs fewer products than block
 // iteration for the same pairs. A count, not a timing.
