@@ -30,6 +30,10 @@ class Operator {
   // pattern is scattered), a dense matrix on more than one rank through
   // apply_dense.
   Status apply(const Block& x, Block& y);
+  // Collective. Column yc of Y = A times column xc of X, in place in the blocks'
+  // storage (X and Y may be one block, the columns must differ): MatMult, or for an
+  // AIJ matrix with a scattered pattern SparseProduct's one-column kernel.
+  Status apply_column(const Block& x, int xc, Block& y, int yc);
   // True when apply_shifted runs as one pass over the matrix (an AIJ matrix);
   // otherwise a method does the product and the update itself.
   bool fuses();
@@ -48,9 +52,9 @@ class Operator {
   // once per product (n x b values: b of the rank's own matrix rows' length) and
   // the local rows multiply it with one BLAS-3 product per owning rank's piece.
   Status apply_dense(const Block& x, Block& y);
-  // One column: MatMult on vectors laid over the blocks' storage (apply() takes it
+  // One column: MatMult on vectors laid over the columns' storage (apply() takes it
   // unless the AIJ pattern is scattered: SparseProduct::scattered).
-  Status apply_one(const Block& x, Block& y);
+  Status apply_one(const double* x, double* y, PetscInt local_rows, PetscInt rows);
 
   Mat a_ = nullptr;
   std::int64_t matvecs_ = 0;
@@ -59,7 +63,7 @@ class Operator {
   Path path();
   Path path_ = Path::unknown;
   SparseProduct sparse_;
-  Vec x1_ = nullptr, y1_ = nullptr;   // apply_one's vectors, laid over the blocks' storage
+  Vec x1_ = nullptr, y1_ = nullptr;   // apply_one's vectors, laid over the columns' storage
   std::vector<double> gathered_;      // X from every rank, rank by rank (each piece m_r x b)
   std::vector<int> counts_, displs_;  // of the gather, in values
 };

@@ -372,6 +372,10 @@ Status SparseProduct::apply_rows(Mat a, int cols, const double* x, double* y, do
   return product(a, cols, true, x, y, alpha, shift, beta);
 }
 
+Status SparseProduct::apply_column(Mat a, const double* x, double* y) {
+  return product(a, 1, false, x, y, 1.0, 0.0, 0.0);
+}
+
 void to_rows(const Block& x, double* rows) {
   const PetscInt m = x.local_rows();
   const int cols = x.cols();

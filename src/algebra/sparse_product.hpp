@@ -42,6 +42,8 @@ class SparseProduct {
   // rank). A loop of products (a Chebyshev filter) runs fastest in this layout:
   // each stored entry meets its row of X in one contiguous load.
   Status apply_rows(Mat a, int cols, const double* x, double* y, double alpha, double shift, double beta);
+  // Collective. y = A x for one column given by its local values (x and y distinct).
+  Status apply_column(Mat a, const double* x, double* y);
 
   // Collective on first use, then remembered. True when A's pattern is scattered:
   // fewer than half of a sample of stored entries continue a column of the row before

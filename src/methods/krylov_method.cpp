@@ -153,15 +153,9 @@ class KrylovMethod final : public SubspaceMethod {
     return allocate_work();
   }
 
-  // The products' one-column blocks and the restart's scratch block.
+  // The restart's scratch block (the products go from column to column of the basis).
   Status allocate_work() {
     if (scratch_.cols() == m_) return Status::ok();
-    auto x = Block::like(op_->mat(), 1);
-    if (!x) return x.status();
-    x1_ = std::move(*x);
-    auto y = Block::like(op_->mat(), 1);
-    if (!y) return y.status();
-    y1_ = std::move(*y);
     auto t = Block::like(op_->mat(), m_);
     if (!t) return t.status();
     scratch_ = std::move(*t);
@@ -169,8 +163,6 @@ class KrylovMethod final : public SubspaceMethod {
   }
 
   void release_work() {
-    x1_ = Block();
-    y1_ = Block();
     scratch_ = Block();
   }
 
@@ -300,9 +292,7 @@ class KrylovMethod final : public SubspaceMethod {
     std::vector<double> h;
     beta_ = 0;
     for (int j = k; j < m; ++j) {
-      algebra::copy_columns(v_, j, x1_, 0, 1);
-      LODESTONE_TRY(agree(comm_, op_->apply(x1_, y1_)));
-      algebra::copy_columns(y1_, 0, v_, j + 1, 1);
+      LODESTONE_TRY(agree(comm_, op_->apply_column(v_, j, v_, j + 1)));
       double w0 = 0;
       const double beta = orthogonalize(j + 1, h, w0);
       for (int i = 0; i <= j; ++i) h_(i, j) = h[i];
@@ -412,7 +402,7 @@ class KrylovMethod final : public SubspaceMethod {
   }
 
   int n_ = 0, m_ = 0, k_ = 0, nconv_ = 0;
-  Block v_, x1_, y1_, scratch_;
+  Block v_, scratch_;
   Small s_, h_;
   std::vector<double> b_;
   double beta_ = 0;

@@ -37,15 +37,17 @@ MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int
   }
   if (method == "krylov") {
     // One vector per product (src/methods/krylov_method.cpp): a basis of m + 1 vectors,
-    // m = max(2K+1, K+16) or --block-size (at least K+1), a scratch block of m for the
-    // restart's rotation, and the product's input and output.
+    // m = max(2K+1, K+16) or --block-size (at least K+1), and a scratch block of m for
+    // the restart's rotation (the products go from column to column of the basis).
     const std::int64_t m = block > 0 ? std::max(block, pairs + 1) : std::max(2 * pairs + 1, pairs + 16);
     const std::int64_t keep = std::min(m - 1, pairs + (m - pairs) / 2);
     s.block = 1;
-    s.blocks_held = 2 * m + 3;
+    s.blocks_held = 2 * m + 1;
     s.held_at_end = m + 1;  // the basis; the work blocks are freed before the extraction
     s.passes_per_iteration = 1;
-    s.reductions_per_iteration = 2;  // classical Gram-Schmidt twice, one sum each
+    // Classical Gram-Schmidt, one sum a pass; a second pass when the first removed more
+    // than half of w's squared norm. The model counts two (a converging run needs them).
+    s.reductions_per_iteration = 2;
     // Per product: two passes of V^T w and w - V c over about m columns (8m flops a row),
     // and the restart's rotation V U (2 m keep a row) shared by the m - keep products of a cycle.
     const double md = static_cast<double>(m), kd = static_cast<double>(keep);
