@@ -112,6 +112,30 @@ void times_small_inplace(Block& x, const Small& s) {
   x.changed();
 }
 
+void times_small_leading(Block& x, const Small& s) {
+  const PetscInt rows = x.local_rows();
+  const PetscBLASInt k = s.rows, n = s.cols, ld = static_cast<PetscBLASInt>(rows);
+  if (rows > 0 && n > 0) {
+    // A block of rows of the k input columns is copied aside (it stays in the core's
+    // cache) and multiplied back into the same rows of the first n columns.
+    constexpr PetscInt kBlockRows = 1024;
+    std::vector<double> buf(static_cast<std::size_t>(std::min(rows, kBlockRows)) * std::max<PetscBLASInt>(k, 1));
+    double one = 1.0, zero = 0.0;
+    for (PetscInt r0 = 0; r0 < rows; r0 += kBlockRows) {
+      const PetscBLASInt br = static_cast<PetscBLASInt>(std::min(kBlockRows, rows - r0));
+      if (k == 0) {
+        for (PetscBLASInt j = 0; j < n; ++j) std::fill(x.column(j) + r0, x.column(j) + r0 + br, 0.0);
+        continue;
+      }
+      for (PetscBLASInt j = 0; j < k; ++j)
+        std::copy(x.column(j) + r0, x.column(j) + r0 + br, buf.data() + static_cast<std::size_t>(j) * br);
+      BLASgemm_("N", "N", &br, &n, &k, &one, buf.data(), &br, const_cast<double*>(s.data()), &k, &zero, x.data() + r0,
+                &ld);
+    }
+  }
+  x.changed();
+}
+
 void combine(Block& y, double alpha, const Block& x, double beta, int xc, int yc, int m) {
   if (m < 0) m = x.cols() - xc;
   const PetscInt rows = y.local_rows();

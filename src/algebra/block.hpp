@@ -62,6 +62,9 @@ class Block {
 void times_small(const Block& x, const Small& s, Block& y);
 // X = X * S in place (uses a scratch copy of the local rows).
 void times_small_inplace(Block& x, const Small& s);
+// Columns [0, m) of X = columns [0, k) of X times S (k x m, k and m at most X's
+// columns), in place a block of rows at a time: no copy of the local rows.
+void times_small_leading(Block& x, const Small& s);
 // Y = alpha * Y + beta * X, column ranges [xc, xc+m) of X onto [yc, yc+m) of Y.
 void combine(Block& y, double alpha, const Block& x, double beta, int xc = 0, int yc = 0, int m = -1);
 // Copy columns [xc, xc+m) of X into columns [yc, yc+m) of Y.

@@ -55,7 +55,6 @@ class KrylovMethod final : public SubspaceMethod {
 
   Status step() override {
     if (nconv_ >= problem_.pairs) return Status::ok();
-    LODESTONE_TRY(allocate_work());
     LODESTONE_TRY(extend());
     LODESTONE_TRY(schur_and_truncate());
     ++iterations_;
@@ -92,9 +91,6 @@ class KrylovMethod final : public SubspaceMethod {
     t_ = s_.sub(0, p, 0, p);
     locked_ = p;
     LODESTONE_TRY(resize_active(0));
-    // The work blocks (m + 2 vectors) are not needed to extract: free them first,
-    // so the extraction's own blocks do not come on top (a later step() makes them again).
-    release_work();
     return SubspaceMethod::extract();
   }
 
@@ -139,7 +135,8 @@ class KrylovMethod final : public SubspaceMethod {
   }
 
  private:
-  // Basis size m, the basis and the work blocks.
+  // Basis size m and the basis, the one distributed block the method keeps (each
+  // product goes from a column to the next, the restart rotates the basis in place).
   Status allocate() {
     PetscInt n = 0;
     MatGetSize(op_->mat(), &n, nullptr);
@@ -150,20 +147,7 @@ class KrylovMethod final : public SubspaceMethod {
     auto v = Block::like(op_->mat(), m_ + 1);
     if (!v) return v.status();
     v_ = std::move(*v);
-    return allocate_work();
-  }
-
-  // The restart's scratch block (the products go from column to column of the basis).
-  Status allocate_work() {
-    if (scratch_.cols() == m_) return Status::ok();
-    auto t = Block::like(op_->mat(), m_);
-    if (!t) return t.status();
-    scratch_ = std::move(*t);
     return Status::ok();
-  }
-
-  void release_work() {
-    scratch_ = Block();
   }
 
   void clear_ritz() {
@@ -388,8 +372,7 @@ class KrylovMethod final : public SubspaceMethod {
       keep = std::clamp(problem_.pairs + (m - problem_.pairs) / 2, 1, m - 1);
       if (ritz_im_[keep - 1] > 0) keep = keep + 1 <= m - 1 ? keep + 1 : keep - 1;
     }
-    algebra::times_small(v_, u.columns(0, keep), scratch_);
-    algebra::copy_columns(scratch_, 0, v_, 0, keep);
+    algebra::times_small_leading(v_, u.columns(0, keep));
     if (keep < m) algebra::copy_columns(v_, m, v_, keep, 1);
     k_ = keep;
     s_ = t.sub(0, keep, 0, keep);
@@ -402,7 +385,7 @@ class KrylovMethod final : public SubspaceMethod {
   }
 
   int n_ = 0, m_ = 0, k_ = 0, nconv_ = 0;
-  Block v_, scratch_;
+  Block v_;
   Small s_, h_;
   std::vector<double> b_;
   double beta_ = 0;

@@ -37,13 +37,13 @@ MethodShape method_shape(const std::string& method, std::int64_t pairs, std::int
   }
   if (method == "krylov") {
     // One vector per product (src/methods/krylov_method.cpp): a basis of m + 1 vectors,
-    // m = max(2K+1, K+16) or --block-size (at least K+1), and a scratch block of m for
-    // the restart's rotation (the products go from column to column of the basis).
+    // m = max(2K+1, K+16) or --block-size (at least K+1), and nothing beside it (the
+    // products go from column to column of the basis, the restart rotates it in place).
     const std::int64_t m = block > 0 ? std::max(block, pairs + 1) : std::max(2 * pairs + 1, pairs + 16);
     const std::int64_t keep = std::min(m - 1, pairs + (m - pairs) / 2);
     s.block = 1;
-    s.blocks_held = 2 * m + 1;
-    s.held_at_end = m + 1;  // the basis; the work blocks are freed before the extraction
+    s.blocks_held = m + 1;
+    s.held_at_end = m + 1;  // the basis, beside which the extraction makes its blocks
     s.passes_per_iteration = 1;
     // Classical Gram-Schmidt, one sum a pass; a second pass when the first removed more
     // than half of w's squared norm. The model counts two (a converging run needs them).

@@ -103,3 +103,36 @@ TEST(AlgebraBlock, NormEstimateMatchesPetscNorms) {
   EXPECT_GE(n1, 41 * 1.5);  // column 5 alone
   EXPECT_NEAR(*est, std::sqrt(static_cast<double>(n1) * static_cast<double>(ninf)), 1e-12 * *est);
 }
+
+// The in-place rotation of leading columns (the Krylov restart) against the
+// out-of-place BLAS product, on more rows than one of its row blocks (2500 local
+// rows at most, blocks of 1024) and for k > n, k = n, k < n and k = 0.
+TEST(AlgebraBlock, LeadingColumnsTimesSmallInPlace) {
+  const std::int64_t n = 2500;
+  auto m = test::build_aij(MPI_COMM_WORLD, n, true, [&](std::int64_t i, test::Entries& e) { lap_rule(n, i, e); });
+  ASSERT_TRUE(m.is_ok());
+  for (auto [k, cols] : {std::pair{7, 3}, {5, 5}, {2, 6}, {0, 2}}) {
+    SCOPED_TRACE(testing::Message() << "k " << k << " cols " << cols);
+    auto x = Block::like(m->petsc(), 8), want = Block::like(m->petsc(), cols);
+    ASSERT_TRUE(x.is_ok() && want.is_ok());
+    algebra::fill_random(*x, 11, 2);
+    algebra::Small s(k, cols);
+    for (int j = 0; j < cols; ++j)
+      for (int i = 0; i < k; ++i) s(i, j) = io::hashed_uniform(5, static_cast<std::uint64_t>(i), static_cast<std::uint64_t>(j)) - 0.5;
+    auto lead = Block::like(m->petsc(), std::max(k, 1));
+    ASSERT_TRUE(lead.is_ok());
+    algebra::copy_columns(*x, 0, *lead, 0, std::max(k, 1));
+    algebra::Small s_lead = k > 0 ? s : algebra::Small(1, cols);  // k = 0: the product is zero either way
+    algebra::times_small(*lead, s_lead, *want);
+    auto untouched = Block::like(m->petsc(), 8 - cols);
+    ASSERT_TRUE(untouched.is_ok());
+    algebra::copy_columns(*x, cols, *untouched, 0, 8 - cols);
+    algebra::times_small_leading(*x, s);
+    double worst = 0;
+    for (int j = 0; j < cols; ++j)
+      for (PetscInt r = 0; r < x->local_rows(); ++r) worst = std::max(worst, std::fabs(x->column(j)[r] - want->column(j)[r]));
+    EXPECT_LT(worst, 1e-14);
+    for (int j = cols; j < 8; ++j)
+      for (PetscInt r = 0; r < x->local_rows(); ++r) ASSERT_EQ(x->column(j)[r], untouched->column(j - cols)[r]);
+  }
+}
