@@ -6,7 +6,7 @@ include(CMakePackageConfigHelpers)
 install(TARGETS lodestone_lib EXPORT LodestoneTargets
   ARCHIVE DESTINATION ${CMAKE_INSTALL_LIBDIR}
   LIBRARY DESTINATION ${CMAKE_INSTALL_LIBDIR})
-install(TARGETS lodestone RUNTIME DESTINATION ${CMAKE_INSTALL_BINDIR})
+install(TARGETS lodestone lodestone_core RUNTIME DESTINATION ${CMAKE_INSTALL_BINDIR})
 # The Python users' helper: the command in bin, its importable module under share.
 install(PROGRAMS ${PROJECT_SOURCE_DIR}/scripts/to-lodestone DESTINATION ${CMAKE_INSTALL_BINDIR})
 install(FILES ${PROJECT_SOURCE_DIR}/scripts/to_lodestone.py DESTINATION ${CMAKE_INSTALL_DATADIR}/lodestone/python)

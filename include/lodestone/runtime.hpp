@@ -4,10 +4,26 @@
 // let it go out of scope at the end. It initialises MPI (unless the caller did)
 // and PETSc, makes PETSc report errors by return value instead of printing
 // stack traces, and silences HDF5's own error printing: Lodestone reports every
-// failure in its own words, once, through Status.
+// failure in its own words, once, through Status. Before it, a program may put
+// the C library's heap on transparent huge pages (restart_on_huge_page_heap).
 #pragma once
 
 namespace lodestone {
+
+// Call first thing in main(), before Runtime and before any thread or MPI starts.
+// Unless it is set already, sets the C library's heap to use transparent huge pages
+// (GLIBC_TUNABLES=glibc.malloc.hugetlb=1, which glibc reads only when a program
+// starts) and starts the program again in place with the same arguments (exec: the
+// same process, so mpirun sees nothing). Loading a large matrix and setting up the
+// blocks then take fewer page faults (docs/benchmarks.md). Does nothing when
+// LODESTONE_LARGE_PAGES=off, when the user set glibc.malloc.hugetlb (the `lodestone`
+// launcher sets it before the command starts, so there the restart costs nothing),
+// under a sanitizer or valgrind, or on a system without glibc; returns if the
+// restart fails. The restart loads the program's libraries a second time.
+void restart_on_huge_page_heap(char** argv);
+
+// Whether this process runs with the setting above.
+bool heap_on_huge_pages();
 
 class Runtime {
  public:

@@ -2,6 +2,7 @@
 #include <fmt/format.h>
 
 #include <cstdio>
+#include <cstdlib>
 #include <vector>
 
 #include "cli/command.hpp"
@@ -28,6 +29,7 @@ void print_error_once(MPI_Comm comm, const std::string& text) {
 
 int main(int argc, char** argv) {
   using namespace lodestone;
+  restart_on_huge_page_heap(argv);  // may start the program again, once
   // PETSc options (e.g. -log_view) follow a lone "--petsc" marker; the rest is ours.
   std::vector<char*> ours, petsc{argv[0]};
   bool in_petsc = false;
@@ -48,7 +50,11 @@ int main(int argc, char** argv) {
 
   CLI::App app{"Lodestone: a few dominant eigenpairs of very large matrices, on MPI.", "lodestone"};
   app.require_subcommand(1);
-  app.set_version_flag("--version", "lodestone 0.1.0");
+  const char* tunables = std::getenv("GLIBC_TUNABLES");
+  app.set_version_flag("--version", std::string("lodestone 0.1.0\nmemory: C heap on ") +
+                                        (heap_on_huge_pages() ? fmt::format("transparent huge pages (GLIBC_TUNABLES={})",
+                                                                            tunables ? tunables : "")
+                                                              : "ordinary pages"));
   std::vector<cli::Command> commands = {
       // In the order of the pipeline: get a matrix, look at it, solve, check, plan.
       cli::make_import_command(app),

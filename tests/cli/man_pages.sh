@@ -5,7 +5,7 @@
 # share/man/man1 unchanged, and rendered by `man -l` (Debian man-db and groff) at
 # 80 columns without complaint, with NAME, SYNOPSIS, every option the command's
 # --help lists, an EXAMPLES section holding the help's example lines, and the
-# version `lodestone --version` prints.
+# version `lodestone --version` prints on its first line.
 set -euo pipefail
 : "${LODESTONE:?}" "${LODESTONE_BUILD:?}"
 fail() { echo "FAIL: $*" >&2; exit 1; }
@@ -14,7 +14,7 @@ command -v man >/dev/null || fail "man is not installed (scripts/install-deps in
 tmp="$(mktemp -d)"
 trap 'rm -rf "$tmp"' EXIT
 
-version=$(timeout 60 "$LODESTONE" --version)
+version=$(timeout 60 "$LODESTONE" --version | head -n 1)
 [[ "$version" =~ ^lodestone\ ([0-9]+\.[0-9]+\.[0-9]+)$ ]] || fail "lodestone --version printed '$version'"
 version=${BASH_REMATCH[1]}
 subcommands=$(timeout 60 "$LODESTONE" --help | awk '/^Subcommands:/ {f = 1; next} f && /^  [a-z]/ {print $1} f && /^$/ {exit}')
