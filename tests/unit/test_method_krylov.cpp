@@ -48,6 +48,18 @@ Matrix load_laplace2d(MPI_Comm comm, std::int64_t nx, std::int64_t ny) {
   return std::move(*m);
 }
 
+// A damped random walk of n nodes with four well-separated communities (the
+// benchmark's kind of matrix, scaled down), written to `file` and loaded.
+Result<Matrix> walk_matrix(MPI_Comm comm, std::int64_t n, const char* file) {
+  io::WalkOptions w;
+  w.n = n;
+  w.communities = 4;
+  w.mixing = 0.1;
+  const std::string path = test::temp_path(comm, file);
+  LODESTONE_TRY(io::write_csr_file(comm, path, "/matrix", w.n, false, io::generate_walk(comm, w)));
+  return Matrix::load(comm, path);
+}
+
 void expect_certified(const Matrix& m, const SolveResult& r) {
   for (std::int64_t j = 0; j < r.pairs(); ++j) {
     EXPECT_LE(r.residual_norms[j], r.tolerance * r.norm_estimate * 1.0001) << "pair " << j;
@@ -308,13 +320,7 @@ TEST(MethodKrylov, SaveHereRestoreOnOneRank) {
 // a 1-D Laplacian (clustered, where w loses most of its norm and passes repeat).
 TEST(MethodKrylov, SavedStateIsAnOrthonormalKrylovSchurDecomposition) {
   MPI_Comm comm = MPI_COMM_WORLD;
-  io::WalkOptions w;
-  w.n = 3000;
-  w.communities = 4;
-  w.mixing = 0.1;
-  const std::string path = test::temp_path(comm, "krylov_basis_walk.h5");
-  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", w.n, false, io::generate_walk(comm, w)).is_ok());
-  auto walk = Matrix::load(comm, path);
+  auto walk = walk_matrix(comm, 3000, "krylov_basis_walk.h5");
   ASSERT_TRUE(walk.is_ok()) << walk.status().message();
   auto lap = test::build_aij(comm, 300, true, laplace1d(300));
   ASSERT_TRUE(lap.is_ok());
@@ -380,13 +386,7 @@ TEST(MethodKrylov, SavedStateIsAnOrthonormalKrylovSchurDecomposition) {
 // iteration for the same pairs. A count, not a timing.
 TEST(MethodKrylov, FewerProductsThanBlockOnAWalk) {
   MPI_Comm comm = MPI_COMM_WORLD;
-  io::WalkOptions w;
-  w.n = 4000;
-  w.communities = 4;
-  w.mixing = 0.1;
-  const std::string path = test::temp_path(comm, "krylov_walk.h5");
-  ASSERT_TRUE(io::write_csr_file(comm, path, "/matrix", w.n, false, io::generate_walk(comm, w)).is_ok());
-  auto m = Matrix::load(comm, path);
+  auto m = walk_matrix(comm, 4000, "krylov_walk.h5");
   ASSERT_TRUE(m.is_ok()) << m.status().message();
   auto options = [](const char* method) {
     auto o = test::quiet_options(4, method, "magnitude");
