@@ -1,5 +1,5 @@
-// The `lodestone` command as users run it: a small program that links nothing beyond
-// the C library, sets glibc's heap to use transparent huge pages
+// The `lodestone` command as users run it: a small program that links only the C and
+// C++ standard libraries, sets glibc's heap to use transparent huge pages
 // (support/huge_page_setting.hpp) and hands over, in the same process (exec), to
 // `lodestone-core` in its own folder. glibc reads the setting only when a program
 // starts, and the command restarting itself would load its hundred libraries twice
