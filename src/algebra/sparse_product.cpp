@@ -137,75 +137,93 @@ void count_continued(const Rows& d, std::int64_t& continued, std::int64_t& sampl
 
 // The interlaced layout: row i's values of all `cols` columns side by side (x[i * cols + j]),
 // so each stored entry meets W neighbouring values in whole-vector loads. V is a vector of L
-// doubles (GCC/Clang vector extension); the W % L columns left over are done one by one.
-// acc (NV vectors) and tail (NT values) += the stored entries of row i of r times the rows of src.
-template <typename V, int L, int NV, int NT>
+// doubles (GCC/Clang vector extension) and H one of L / 2: the W columns go as NV vectors V,
+// then NH (0 or 1) vectors H, then NT values one by one.
+template <typename V, typename H, int W>
+struct Split {
+  static constexpr int L = sizeof(V) / sizeof(double), LH = sizeof(H) / sizeof(double);
+  static constexpr int NV = W / L, NH = (W % L) / LH, NT = W % L % LH;
+  static constexpr int at_h = NV * L, at_t = NV * L + NH * LH;  // first column of the H part, of the tail
+};
+
+// Always inlined into the kernels compiled for a wider instruction set (below), so
+// the vector is never passed by value across an ABI boundary; GCC warns regardless.
+#pragma GCC diagnostic ignored "-Wpsabi"
+template <typename T>
+[[gnu::always_inline]] inline T load(const double* p) {
+  T t;
+  __builtin_memcpy(&t, p, sizeof t);
+  return t;
+}
+
+// acc, hacc and tail += the stored entries of row i of r times the rows of src.
+template <typename V, typename H, int W>
 [[gnu::always_inline]] inline void add_row(const Rows& r, PetscInt i, const double* src, PetscInt cols, V* acc,
-                                           double* tail) {
+                                           H* hacc, double* tail) {
+  using S = Split<V, H, W>;
   for (PetscInt k = r.start[i]; k < r.start[i + 1]; ++k) {
     const double v = r.val[k];
     const double* c = src + static_cast<std::ptrdiff_t>(r.col[k]) * cols;
-    for (int q = 0; q < NV; ++q) {
-      V t;
-      __builtin_memcpy(&t, c + q * L, sizeof t);
-      acc[q] += v * t;
-    }
-    for (int t = 0; t < NT; ++t) tail[t] += v * c[NV * L + t];
+    for (int q = 0; q < S::NV; ++q) acc[q] += v * load<V>(c + q * S::L);
+    for (int q = 0; q < S::NH; ++q) hacc[q] += v * load<H>(c + S::at_h + q * S::LH);
+    for (int t = 0; t < S::NT; ++t) tail[t] += v * c[S::at_t + t];
   }
 }
 
-template <typename V, int L, int W, bool ReadY>
+// y_i = alpha (sum_i - shift x_i) + beta y_i (beta only when ReadY), one vector of type T.
+template <typename T, bool ReadY>
+[[gnu::always_inline]] inline void finish(const T& sum, const double* xi, double* yi, double alpha, double shift,
+                                          double beta) {
+  T r = alpha * (sum - shift * load<T>(xi));
+  if (ReadY) r += beta * load<T>(yi);
+  __builtin_memcpy(yi, &r, sizeof r);
+}
+
+template <typename V, typename H, int W, bool ReadY>
 [[gnu::always_inline]] inline void chunk_rows(const Rows& d, const Rows& o, const double* x, const double* g,
                                               double* y, PetscInt cols, double alpha, double shift, double beta) {
-  constexpr int NV = W / L, NT = W % L;
+  using S = Split<V, H, W>;
   const PetscInt m = d.count;
   for (PetscInt i = 0; i < m; ++i) {
-    V acc[NV > 0 ? NV : 1] = {};
-    double tail[NT > 0 ? NT : 1] = {};
-    add_row<V, L, NV, NT>(d, i, x, cols, acc, tail);
-    if (o.start != nullptr) add_row<V, L, NV, NT>(o, i, g, cols, acc, tail);
+    V acc[S::NV > 0 ? S::NV : 1] = {};
+    H hacc[S::NH > 0 ? S::NH : 1] = {};
+    double tail[S::NT > 0 ? S::NT : 1] = {};
+    add_row<V, H, W>(d, i, x, cols, acc, hacc, tail);
+    if (o.start != nullptr) add_row<V, H, W>(o, i, g, cols, acc, hacc, tail);
     const double* xi = x + static_cast<std::ptrdiff_t>(i) * cols;
     double* yi = y + static_cast<std::ptrdiff_t>(i) * cols;
-    for (int q = 0; q < NV; ++q) {
-      V xv, r;
-      __builtin_memcpy(&xv, xi + q * L, sizeof xv);
-      r = alpha * (acc[q] - shift * xv);
-      if (ReadY) {
-        V yv;
-        __builtin_memcpy(&yv, yi + q * L, sizeof yv);
-        r += beta * yv;
-      }
-      __builtin_memcpy(yi + q * L, &r, sizeof r);
-    }
-    for (int t = 0; t < NT; ++t) {
-      const double r = alpha * (tail[t] - shift * xi[NV * L + t]);
-      yi[NV * L + t] = ReadY ? r + beta * yi[NV * L + t] : r;
+    for (int q = 0; q < S::NV; ++q) finish<V, ReadY>(acc[q], xi + q * S::L, yi + q * S::L, alpha, shift, beta);
+    for (int q = 0; q < S::NH; ++q)
+      finish<H, ReadY>(hacc[q], xi + S::at_h + q * S::LH, yi + S::at_h + q * S::LH, alpha, shift, beta);
+    for (int t = 0; t < S::NT; ++t) {
+      const double r = alpha * (tail[t] - shift * xi[S::at_t + t]);
+      yi[S::at_t + t] = ReadY ? r + beta * yi[S::at_t + t] : r;
     }
   }
 }
 
 using Vec2 = double __attribute__((vector_size(16)));
 
-#define LODESTONE_CHUNK_CASES(V, L)                                                \
-  switch (w) {                                                                     \
-    case 1: return chunk_rows<V, L, 1, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 2: return chunk_rows<V, L, 2, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 3: return chunk_rows<V, L, 3, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 4: return chunk_rows<V, L, 4, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 5: return chunk_rows<V, L, 5, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 6: return chunk_rows<V, L, 6, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 7: return chunk_rows<V, L, 7, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 8: return chunk_rows<V, L, 8, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 9: return chunk_rows<V, L, 9, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 10: return chunk_rows<V, L, 10, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
-    case 11: return chunk_rows<V, L, 11, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
-    default: return chunk_rows<V, L, 12, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
+#define LODESTONE_CHUNK_CASES(V, H)                                                       \
+  switch (w) {                                                                            \
+    case 1: return chunk_rows<V, H, 1, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 2: return chunk_rows<V, H, 2, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 3: return chunk_rows<V, H, 3, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 4: return chunk_rows<V, H, 4, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 5: return chunk_rows<V, H, 5, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 6: return chunk_rows<V, H, 6, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 7: return chunk_rows<V, H, 7, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 8: return chunk_rows<V, H, 8, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 9: return chunk_rows<V, H, 9, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
+    case 10: return chunk_rows<V, H, 10, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
+    case 11: return chunk_rows<V, H, 11, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
+    default: return chunk_rows<V, H, 12, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
   }
 
 template <bool ReadY>
 void rows_sse2(int w, const Rows& d, const Rows& o, const double* x, const double* g, double* y, PetscInt cols,
                double alpha, double shift, double beta) {
-  LODESTONE_CHUNK_CASES(Vec2, 2)
+  LODESTONE_CHUNK_CASES(Vec2, Vec2)
 }
 
 #if defined(__x86_64__) && defined(__GNUC__)
@@ -214,7 +232,7 @@ using Vec4 = double __attribute__((vector_size(32)));
 template <bool ReadY>
 __attribute__((target("avx2"))) void rows_avx2(int w, const Rows& d, const Rows& o, const double* x, const double* g,
                                                double* y, PetscInt cols, double alpha, double shift, double beta) {
-  LODESTONE_CHUNK_CASES(Vec4, 4)
+  LODESTONE_CHUNK_CASES(Vec4, Vec2)
 }
 bool have_avx2() {
   static const bool yes = __builtin_cpu_supports("avx2");
