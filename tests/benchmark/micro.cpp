@@ -1,7 +1,8 @@
 // Google Benchmark micro-benchmarks of the kernels that dominate a solve, on the
-// library's own internal functions: the block matrix product (Operator::apply),
-// the Chebyshev filter's fused step on row-interlaced blocks, block orthonormalization (Cholesky QR twice), the small
-// projected eigenproblems (symmetric and real Schur) and a checkpoint write.
+// library's own internal functions: the block matrix product (Operator::apply), the
+// Chebyshev filter's fused step on row-interlaced blocks, block orthonormalization
+// (Cholesky QR twice), the small projected eigenproblems (symmetric and real Schur)
+// and a checkpoint write.
 // Built with -DLODESTONE_BENCHMARKS=ON; scripts/bench runs it and keeps its JSON.
 //
 //   bench_micro [--grid N] [--dir DIR] [Google Benchmark flags]
@@ -82,7 +83,7 @@ void BM_ShiftedRowsProduct(benchmark::State& state) {
   const double bytes = mi.nz_used * 12.0 + (n + 1) * 4.0 + n * b * 24.0;
   state.SetBytesProcessed(static_cast<std::int64_t>(bytes * static_cast<double>(state.iterations())));
 }
-BENCHMARK(BM_ShiftedRowsProduct)->Arg(4)->Arg(8)->Arg(12)->Unit(benchmark::kMillisecond)->UseRealTime();
+BENCHMARK(BM_ShiftedRowsProduct)->Arg(4)->Arg(8)->Arg(10)->Arg(11)->Arg(12)->Unit(benchmark::kMillisecond)->UseRealTime();
 
 void BM_Orthonormalize(benchmark::State& state) {
   const int b = static_cast<int>(state.range(0));
