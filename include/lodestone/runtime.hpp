@@ -8,6 +8,8 @@
 // the C library's heap on transparent huge pages (restart_on_huge_page_heap).
 #pragma once
 
+#include <string>
+
 namespace lodestone {
 
 // Call first thing in main(), before Runtime and before any thread or MPI starts.
@@ -22,8 +24,11 @@ namespace lodestone {
 // restart fails. The restart loads the program's libraries a second time.
 void restart_on_huge_page_heap(char** argv);
 
-// Whether this process runs with the setting above.
-bool heap_on_huge_pages();
+// The pages this process's C heap is on, in words (for --version): "ordinary pages",
+// or, as glibc.malloc.hugetlb says, transparent huge pages (1, the setting above) or
+// huge pages reserved in hugetlbfs (2, which only a user sets), with the GLIBC_TUNABLES
+// the process runs with.
+std::string heap_pages();
 
 class Runtime {
  public:

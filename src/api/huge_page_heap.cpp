@@ -37,9 +37,19 @@ bool instrumented() {
 
 }  // namespace
 
-bool heap_on_huge_pages() {
+std::string heap_pages() {
   const char* tunables = std::getenv("GLIBC_TUNABLES");
-  return tunables != nullptr && std::string(tunables).find(support::kHugePageTunable) != std::string::npos;
+  const std::string all = tunables != nullptr ? tunables : "";
+  // glibc (2.36) takes the last glibc.malloc.hugetlb in the list: under strace, 1:0
+  // makes no madvise call for the heap, 1 alone makes them.
+  const std::string key = "glibc.malloc.hugetlb=";
+  const auto at = all.rfind(key);
+  if (at == std::string::npos) return "ordinary pages";
+  const auto from = at + key.size();
+  const std::string mode = all.substr(from, all.find(':', from) - from);
+  if (mode == "1") return "transparent huge pages (GLIBC_TUNABLES=" + all + ")";
+  if (mode == "2") return "huge pages reserved in hugetlbfs (GLIBC_TUNABLES=" + all + ")";
+  return "ordinary pages";
 }
 
 void restart_on_huge_page_heap(char** argv) {

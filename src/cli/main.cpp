@@ -50,11 +50,7 @@ int main(int argc, char** argv) {
 
   CLI::App app{"Lodestone: a few dominant eigenpairs of very large matrices, on MPI.", "lodestone"};
   app.require_subcommand(1);
-  const char* tunables = std::getenv("GLIBC_TUNABLES");
-  app.set_version_flag("--version", std::string("lodestone 0.1.0\nmemory: C heap on ") +
-                                        (heap_on_huge_pages() ? fmt::format("transparent huge pages (GLIBC_TUNABLES={})",
-                                                                            tunables ? tunables : "")
-                                                              : "ordinary pages"));
+  app.set_version_flag("--version", "lodestone 0.1.0\nmemory: C heap on " + heap_pages());
   std::vector<cli::Command> commands = {
       // In the order of the pipeline: get a matrix, look at it, solve, check, plan.
       cli::make_import_command(app),

@@ -3,7 +3,8 @@
 # transparent huge pages (GLIBC_TUNABLES=glibc.malloc.hugetlb=1), under mpirun as well,
 # and `--version` says which heap it runs on; lodestone-core started alone restarts
 # itself once with the setting (include/lodestone/runtime.hpp). Turned off by
-# LODESTONE_LARGE_PAGES=off; a glibc.malloc.hugetlb the user set stands; other
+# LODESTONE_LARGE_PAGES=off; a glibc.malloc.hugetlb the user set stands (and is
+# reported for what it is: 0 ordinary, 2 hugetlbfs pages, the last one given); other
 # settings in GLIBC_TUNABLES are kept beside it; a running solve holds huge pages;
 # a solve after the restart gives the same eigenvalues as one without it.
 set -euo pipefail
@@ -20,6 +21,11 @@ on="memory: C heap on transparent huge pages (GLIBC_TUNABLES=glibc.malloc.hugetl
   fail "LODESTONE_LARGE_PAGES=off did not turn the restart off"
 [ "$(GLIBC_TUNABLES=glibc.malloc.hugetlb=0 "$LODESTONE" --version | sed -n 2p)" = "memory: C heap on ordinary pages" ] ||
   fail "the user's own glibc.malloc.hugetlb=0 was overridden"
+[ "$(GLIBC_TUNABLES=glibc.malloc.hugetlb=2 "$LODESTONE" --version | sed -n 2p)" = \
+  "memory: C heap on huge pages reserved in hugetlbfs (GLIBC_TUNABLES=glibc.malloc.hugetlb=2)" ] ||
+  fail "the user's own glibc.malloc.hugetlb=2 was not reported as such"
+[ "$(GLIBC_TUNABLES=glibc.malloc.hugetlb=1:glibc.malloc.hugetlb=0 "$LODESTONE" --version | sed -n 2p)" = \
+  "memory: C heap on ordinary pages" ] || fail "the last glibc.malloc.hugetlb in the list was not the one reported"
 [ "$(GLIBC_TUNABLES=glibc.malloc.tcache_count=0 "$LODESTONE" --version | sed -n 2p)" = \
   "memory: C heap on transparent huge pages (GLIBC_TUNABLES=glibc.malloc.tcache_count=0:glibc.malloc.hugetlb=1)" ] ||
   fail "another setting in GLIBC_TUNABLES was not kept"
