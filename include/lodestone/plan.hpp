@@ -51,14 +51,14 @@ struct PlanRequest {
 // Bytes one rank needs (the heaviest rank of the partition). Loading and solving
 // do not overlap, nor do reading and the symmetry check: the peak is the matrix
 // and the library plus the largest of the solve's vectors, the reader's buffers
-// and the symmetry check's copies; then the safety margin.
+// and the symmetry check's buffers; then the safety margin.
 struct MemoryBreakdown {
   double matrix = 0;          // its rows of the matrix, as PETSc holds them
   double vectors = 0;         // the working block(s) of vectors          (while solving)
   double locked = 0;          // converged (locked) vectors               (while solving)
   double halo = 0;            // ghost values and their index map         (while solving)
   double read_buffers = 0;    // chunk buffers and per-row counts         (while loading)
-  double symmetry_check = 0;  // transpose and difference of a matrix declared symmetric (while loading)
+  double symmetry_check = 0;  // checking a matrix declared symmetric          (while loading)
   double library = 0;         // MPI, PETSc and HDF5 themselves
   double margin = 0;          // safety margin on the peak
   double solving() const { return vectors + locked + halo; }

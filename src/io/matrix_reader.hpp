@@ -30,7 +30,12 @@ Result<Matrix> read_csr(MPI_Comm comm, hid_t group, const MatrixHeader& header, 
 Result<Matrix> read_dense(MPI_Comm comm, hid_t group, const MatrixHeader& header, const LoadOptions& options);
 
 // Collective. Checks |a_ij - a_ji| <= tol * max|a| and names the first failing row.
-Status check_symmetric(Mat a, double tolerance, const std::string& where);
+// Sparse: with a transpose and a difference (two more matrices of about A's size).
+// Dense: without a copy, other ranks' columns received at most piece_values values
+// (16 MiB by default) at a time.
+inline constexpr std::int64_t kSymmetryPieceValues = std::int64_t{1} << 21;
+Status check_symmetric(Mat a, double tolerance, const std::string& where,
+                       std::int64_t piece_values = kSymmetryPieceValues);
 
 // The largest row or column count this build's PETSc index type can hold.
 std::int64_t max_index();

@@ -49,7 +49,7 @@ std::string describe_plan(const Plan& p) {
                                           : human_bytes(m.halo) + " (one rank: none)");
   line("read buffers", fmt::format("{} (while loading)", human_bytes(m.read_buffers)));
   line("symmetry check", fmt::format("{} (while loading{})", human_bytes(m.symmetry_check),
-                                     p.symmetric ? ": transpose and difference" : "; not symmetric, none"));
+                                     p.symmetric ? (p.dense ? ": in place, a piece of another rank's columns at a time" : ": transpose and difference") : "; not symmetric, none"));
   line("library overhead", fmt::format("{} (MPI, PETSc, HDF5)", human_bytes(m.library)));
   line("peak", fmt::format("{} (matrix + library + the larger of solving {} and loading {})", human_bytes(m.peak()),
                            human_bytes(m.solving()), human_bytes(m.loading())));

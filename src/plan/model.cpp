@@ -4,6 +4,8 @@
 #include <algorithm>
 #include <cmath>
 
+#include "io/matrix_reader.hpp"
+
 
 namespace lodestone::plan {
 
@@ -120,15 +122,14 @@ MemoryBreakdown rank_memory(const MachineModel& m, const MethodShape& s, bool de
     const double chunk = static_cast<double>(std::min<std::int64_t>(m.read_chunk_entries, std::max<std::int64_t>(part.heaviest_nnz, 1)));
     out.read_buffers = chunk * (8.0 + 8.0 + m.index_bytes) + (rows + 1) * 8.0 + rows * 2.0 * m.index_bytes;
   }
-  // Matrix::load checks a matrix declared symmetric with a transpose and a difference. Sparse: two
-  // more copies (the difference of two patterns is a new matrix). Dense: the difference is formed in
-  // the transpose's place (one copy), but on p > 1 ranks the transpose sends every entry outside the
-  // rank's diagonal block to its owner through PETSc's stash: the value and two indices, buffered on
-  // the sending and on the receiving side.
+  // Matrix::load checks a matrix declared symmetric. Sparse: a transpose and a difference,
+  // two more copies (the difference of two patterns is a new matrix). Dense: in place
+  // (io/symmetry_check.cpp), with one value per row and, on p > 1 ranks, one piece of
+  // another rank's columns at a time (at most io::kSymmetryPieceValues values).
   if (symmetric) {
     if (dense) {
-      const double off = rows * (static_cast<double>(n) - rows);
-      out.symmetry_check = out.matrix + (part.parts > 1 ? 2.0 * off * (8.0 + 2.0 * m.index_bytes) : 0.0);
+      const double piece = part.parts > 1 ? std::min(static_cast<double>(io::kSymmetryPieceValues), rows * rows) : 0.0;
+      out.symmetry_check = 8.0 * (rows + piece);
     } else {
       out.symmetry_check = 2.0 * out.matrix;
     }

@@ -7,6 +7,7 @@
 
 #include "io/generators.hpp"
 #include "io/partition.hpp"
+#include "io/matrix_reader.hpp"
 #include "io/matrix_writer.hpp"
 #include "lodestone/matrix.hpp"
 #include "support/collective.hpp"
@@ -131,4 +132,47 @@ TEST(MatrixRead, AllZeroMatrixWritesAndReads) {
   ASSERT_TRUE(m.is_ok()) << m.status().message();
   EXPECT_EQ(m->info().nnz, 0);
   EXPECT_EQ(m->info().rows, n);
+}
+
+// A dense matrix of uneven row blocks (rank r holds 5 + 3 r rows), symmetric:
+// a_ij = 1 / (1 + i + j), or with a_pq raised by `bump` (p and q on the last and
+// the first rank).
+static Mat uneven_dense(MPI_Comm comm, std::int64_t p, std::int64_t q, double bump) {
+  const int rank = comm_rank(comm), size = comm_size(comm);
+  const PetscInt mine = 5 + 3 * rank;
+  PetscInt n = 0;
+  for (int r = 0; r < size; ++r) n += 5 + 3 * r;
+  Mat a = nullptr;
+  MatCreateDense(comm, mine, PETSC_DECIDE, n, n, nullptr, &a);
+  PetscInt lo = 0, hi = 0;
+  MatGetOwnershipRange(a, &lo, &hi);
+  for (PetscInt i = lo; i < hi; ++i)
+    for (PetscInt j = 0; j < n; ++j) {
+      const double v = 1.0 / (1.0 + static_cast<double>(i + j)) + (i == p && j == q ? bump : 0.0);
+      MatSetValue(a, i, j, v, INSERT_VALUES);
+    }
+  MatAssemblyBegin(a, MAT_FINAL_ASSEMBLY);
+  MatAssemblyEnd(a, MAT_FINAL_ASSEMBLY);
+  return a;
+}
+
+TEST(MatrixRead, DenseSymmetryCheckedAcrossRanksInPieces) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  PetscInt n = 0;
+  for (int r = 0; r < comm_size(comm); ++r) n += 5 + 3 * r;
+  const std::int64_t p = n - 2, q = 1;
+  // Whole blocks at once, and pieces of one column, of a few columns and of
+  // columns that do not divide the blocks.
+  for (std::int64_t piece : {io::kSymmetryPieceValues, std::int64_t{1}, std::int64_t{7}, std::int64_t{40}}) {
+    Mat good = uneven_dense(comm, p, q, 0.0);
+    EXPECT_TRUE(io::check_symmetric(good, 1e-14, "good", piece).is_ok()) << "piece " << piece;
+    MatDestroy(&good);
+    Mat bad = uneven_dense(comm, p, q, 0.25);
+    Status s = io::check_symmetric(bad, 1e-12, "bad", piece);
+    ASSERT_FALSE(s.is_ok()) << "piece " << piece;
+    // Rows p and q both differ from their columns; the first is named. max|a| = a_00 = 1.
+    EXPECT_NE(s.message().find("row 1 differs from its column by up to 0.25"), std::string::npos) << s.message();
+    EXPECT_TRUE(io::check_symmetric(bad, 0.3, "bad, loose", piece).is_ok()) << "piece " << piece;
+    MatDestroy(&bad);
+  }
 }

@@ -74,6 +74,14 @@ TEST(PlanModel, MemoryOfTheHeaviestRankByHand) {
   // K = 30: m = 61; iterating 62 vectors, at the end 62 + 90 = 152.
   auto kry30 = plan::rank_memory(m, plan::method_shape("krylov", 30, 0), false, false, n, part, ghosts);
   EXPECT_DOUBLE_EQ(kry30.vectors, 8.0 * 260 * 152);
+  // Dense, declared symmetric: checked in place, one value per row and one piece of another
+  // rank's columns (250 x 250 values here, under the piece's cap); on one rank no piece.
+  auto dense = plan::rank_memory(m, s, true, true, n, part, plan::ghost_estimate(true, n, part));
+  EXPECT_DOUBLE_EQ(dense.matrix, 8.0 * 250 * 1000);
+  EXPECT_DOUBLE_EQ(dense.symmetry_check, 8.0 * (250 + 250 * 250));
+  part.parts = 1;
+  part.heaviest_rows = part.max_rows = 1000;
+  EXPECT_DOUBLE_EQ(plan::rank_memory(m, s, true, true, n, part, 0).symmetry_check, 8.0 * 1000);
 }
 
 TEST(PlanModel, IterationTimeByHand) {
