@@ -4,6 +4,7 @@
 
 #include <cmath>
 #include <filesystem>
+#include <vector>
 
 #include "io/generators.hpp"
 #include "io/partition.hpp"
@@ -136,14 +137,26 @@ TEST(MatrixRead, AllZeroMatrixWritesAndReads) {
 
 // A dense matrix of uneven row blocks (rank r holds 5 + 3 r rows), symmetric:
 // a_ij = 1 / (1 + i + j), or with a_pq raised by `bump` (p and q on the last and
-// the first rank).
-static Mat uneven_dense(MPI_Comm comm, std::int64_t p, std::int64_t q, double bump) {
+// the first rank). pad > 0: the rows live in the caller's array, pad values apart
+// from one column to the next beyond the local rows (a leading dimension of m + pad).
+static Mat uneven_dense(MPI_Comm comm, std::int64_t p, std::int64_t q, double bump, PetscInt pad,
+                        std::vector<double>& storage) {
   const int rank = comm_rank(comm), size = comm_size(comm);
   const PetscInt mine = 5 + 3 * rank;
   PetscInt n = 0;
   for (int r = 0; r < size; ++r) n += 5 + 3 * r;
   Mat a = nullptr;
-  MatCreateDense(comm, mine, PETSC_DECIDE, n, n, nullptr, &a);
+  MatCreate(comm, &a);
+  MatSetSizes(a, mine, PETSC_DECIDE, n, n);
+  MatSetType(a, MATDENSE);
+  if (pad > 0) {
+    storage.assign(static_cast<std::size_t>((mine + pad) * n), -7.0);  // the padding must never be read
+    MatDenseSetLDA(a, mine + pad);
+    MatSeqDenseSetPreallocation(a, storage.data());
+    MatMPIDenseSetPreallocation(a, storage.data());
+  } else {
+    MatSetUp(a);
+  }
   PetscInt lo = 0, hi = 0;
   MatGetOwnershipRange(a, &lo, &hi);
   for (PetscInt i = lo; i < hi; ++i)
@@ -161,18 +174,23 @@ TEST(MatrixRead, DenseSymmetryCheckedAcrossRanksInPieces) {
   PetscInt n = 0;
   for (int r = 0; r < comm_size(comm); ++r) n += 5 + 3 * r;
   const std::int64_t p = n - 2, q = 1;
-  // Whole blocks at once, and pieces of one column, of a few columns and of
-  // columns that do not divide the blocks.
-  for (std::int64_t piece : {io::kSymmetryPieceValues, std::int64_t{1}, std::int64_t{7}, std::int64_t{40}}) {
-    Mat good = uneven_dense(comm, p, q, 0.0);
-    EXPECT_TRUE(io::check_symmetric(good, 1e-14, "good", piece).is_ok()) << "piece " << piece;
-    MatDestroy(&good);
-    Mat bad = uneven_dense(comm, p, q, 0.25);
-    Status s = io::check_symmetric(bad, 1e-12, "bad", piece);
-    ASSERT_FALSE(s.is_ok()) << "piece " << piece;
-    // Rows p and q both differ from their columns; the first is named. max|a| = a_00 = 1.
-    EXPECT_NE(s.message().find("row 1 differs from its column by up to 0.25"), std::string::npos) << s.message();
-    EXPECT_TRUE(io::check_symmetric(bad, 0.3, "bad, loose", piece).is_ok()) << "piece " << piece;
-    MatDestroy(&bad);
-  }
+  std::vector<double> storage;
+  // PETSc's own storage and the caller's with a wider leading dimension; whole blocks at
+  // once, and pieces of one column, of a few columns and of columns that do not divide the blocks.
+  for (PetscInt pad : {0, 3})
+    for (std::int64_t piece : {io::kSymmetryPieceValues, std::int64_t{1}, std::int64_t{7}, std::int64_t{40}}) {
+      Mat good = uneven_dense(comm, p, q, 0.0, pad, storage);
+      PetscInt lda = 0;
+      MatDenseGetLDA(good, &lda);
+      EXPECT_EQ(lda, 5 + 3 * comm_rank(comm) + pad);
+      EXPECT_TRUE(io::check_symmetric(good, 1e-14, "good", piece).is_ok()) << "piece " << piece << " pad " << pad;
+      MatDestroy(&good);
+      Mat bad = uneven_dense(comm, p, q, 0.25, pad, storage);
+      Status s = io::check_symmetric(bad, 1e-12, "bad", piece);
+      ASSERT_FALSE(s.is_ok()) << "piece " << piece << " pad " << pad;
+      // Rows p and q both differ from their columns; the first is named. max|a| = a_00 = 1.
+      EXPECT_NE(s.message().find("row 1 differs from its column by up to 0.25"), std::string::npos) << s.message();
+      EXPECT_TRUE(io::check_symmetric(bad, 0.3, "bad, loose", piece).is_ok()) << "piece " << piece << " pad " << pad;
+      MatDestroy(&bad);
+    }
 }
