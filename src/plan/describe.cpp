@@ -48,8 +48,10 @@ std::string describe_plan(const Plan& p) {
                                                           p.dense ? "" : p.ghosts_given ? "; from --ghost-rows" : "; an upper bound, column indices are not read")
                                           : human_bytes(m.halo) + " (one rank: none)");
   line("read buffers", fmt::format("{} (while loading)", human_bytes(m.read_buffers)));
-  line("symmetry check", fmt::format("{} (while loading{})", human_bytes(m.symmetry_check),
-                                     p.symmetric ? (p.dense ? ": in place, a piece of another rank's columns at a time" : ": transpose and difference") : "; not symmetric, none"));
+  const char* check = !p.symmetric ? "; not symmetric, none"
+                      : p.dense    ? ": in place, a piece of another rank's columns at a time"
+                                   : ": transpose and difference";
+  line("symmetry check", fmt::format("{} (while loading{})", human_bytes(m.symmetry_check), check));
   line("library overhead", fmt::format("{} (MPI, PETSc, HDF5)", human_bytes(m.library)));
   line("peak", fmt::format("{} (matrix + library + the larger of solving {} and loading {})", human_bytes(m.peak()),
                            human_bytes(m.solving()), human_bytes(m.loading())));

@@ -6,7 +6,6 @@
 
 #include "io/matrix_reader.hpp"
 
-
 namespace lodestone::plan {
 
 std::int64_t log2_ceil(std::int64_t p) {
