@@ -61,8 +61,18 @@ static Status dense_asymmetry(Mat a, double limit, std::int64_t piece_values, do
   // a(lo + i, col) for this rank's row i.
   const auto at = [&](std::int64_t i, std::int64_t col) { return x[i + col * static_cast<std::int64_t>(lda)]; };
   std::vector<double> row_diff(static_cast<std::size_t>(m), 0.0);
-  for (std::int64_t j = 0; j < m; ++j)
-    for (std::int64_t i = 0; i < m; ++i) row_diff[i] = std::max(row_diff[i], std::abs(at(i, lo + j) - at(j, lo + i)));
+  // row_diff[i] = max over k < rows_k of |a(lo + i, col0 + k) - t(k, i)|, for this rank's rows
+  // i in [i0, i1): one of the two sides is read across its columns, so by tiles of kTile x kTile
+  // that stay in cache.
+  constexpr std::int64_t kTile = 32;
+  const auto compare = [&](std::int64_t i0, std::int64_t i1, std::int64_t col0, std::int64_t rows_k, auto&& t) {
+    for (std::int64_t kb = 0; kb < rows_k; kb += kTile)
+      for (std::int64_t ib = i0; ib < i1; ib += kTile)
+        for (std::int64_t k = kb; k < std::min(kb + kTile, rows_k); ++k)
+          for (std::int64_t i = ib; i < std::min(ib + kTile, i1); ++i)
+            row_diff[i] = std::max(row_diff[i], std::abs(at(i, col0 + k) - t(k, i)));
+  };
+  compare(0, m, lo, m, [&](std::int64_t k, std::int64_t i) { return at(k, lo + i); });  // the diagonal block
   // The pieces of one rank's columns for another's rows: as many whole columns (the
   // sender's m values each) as fit in piece_values; sender and receiver count alike.
   const auto width = [&](std::int64_t sender_rows) {
@@ -94,12 +104,9 @@ static Status dense_asymmetry(Mat a, double limit, std::int64_t piece_values, do
         // piece[k + i * from_m] = a(from_lo + k, lo + r0 + i).
         piece.resize(static_cast<std::size_t>(count * from_m));
         failed |= MPI_Recv(piece.data(), static_cast<int>(count * from_m), MPI_DOUBLE, from, t, comm, MPI_STATUS_IGNORE);
-        for (std::int64_t i = 0; i < count; ++i) {
-          const double* got = piece.data() + i * from_m;
-          double worst = row_diff[r0 + i];
-          for (std::int64_t k = 0; k < from_m; ++k) worst = std::max(worst, std::abs(at(r0 + i, from_lo + k) - got[k]));
-          row_diff[r0 + i] = worst;
-        }
+        const double* got = piece.data();
+        compare(r0, r0 + count, from_lo, from_m,
+                [&](std::int64_t k, std::int64_t i) { return got[k + (i - r0) * from_m]; });
       }
     failed |= MPI_Waitall(static_cast<int>(sends.size()), sends.data(), MPI_STATUSES_IGNORE);
   }
