@@ -162,7 +162,11 @@ def parse_log_view(path):
                                            "MatProductSymbolic", "MatMatMultSym", "LdsDenseBlockProd",
                                            "LdsSparseBlockProd", "LdsSparseBlockUpd"):
             try:
-                events[parts[0]] = (int(parts[1]), float(parts[3]))  # count (max), time (max)
+                # count (max over ranks), time (max over ranks), summed over the stages the
+                # event appears in (Set up, Iterate, Extract pairs, ...; -log_view prints one
+                # line per stage).
+                count, seconds = events.get(parts[0], (0, 0.0))
+                events[parts[0]] = (count + int(parts[1]), seconds + float(parts[3]))
             except ValueError:
                 pass
     # The numeric phase of the block product (PETSc 3.18 logs MatMatMult's as MatMatMultNum, or

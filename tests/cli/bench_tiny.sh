@@ -46,6 +46,11 @@ for case, tol in (("a", 1e-6), ("b", 1e-6), ("d", 1e-6)):
     assert float(r["max_rel_residual"]) <= 1e-8, (case, r["max_rel_residual"])
     assert float(r["peak_rss_mib_per_rank"]) > 1 and float(r["plan_mib_per_rank"]) > 1, (case, r)
     assert float(r["matvecs"]) > 0 and float(r["wall_vs_ref"]) > 0
+# Every product of a run is counted, in whichever -log_view stage it ran (set-up, iterations,
+# extraction): no product multiplies more columns than the widest block here (K + K/2 = 15).
+for r in rows:
+    if r["contender"].startswith("lodestone") and r.get("product_calls"):
+        assert float(r["matvecs"]) <= 16 * float(r["product_calls"]), ("products not all counted", r)
 walk = have("c", "lodestone auto", 2)[0]
 assert walk["matvecs"] and (walk["converged"] == "4/4" or "did not converge" in walk["note"]), walk
 assert doc["triad_gbs"], "no triad figure"
