@@ -42,7 +42,7 @@ std::string heap_pages() {
   const std::string all = tunables != nullptr ? tunables : "";
   // glibc (2.36) takes the last glibc.malloc.hugetlb in the list: under strace, 1:0
   // makes no madvise call for the heap, 1 alone makes them.
-  const std::string key = "glibc.malloc.hugetlb=";
+  const std::string key = std::string(support::kHugePageKey) + "=";
   const auto at = all.rfind(key);
   if (at == std::string::npos) return "ordinary pages";
   const auto from = at + key.size();

@@ -10,6 +10,8 @@
 
 namespace lodestone::support {
 
+// glibc's name for the setting, and our value of it.
+inline constexpr const char* kHugePageKey = "glibc.malloc.hugetlb";
 inline constexpr const char* kHugePageTunable = "glibc.malloc.hugetlb=1";
 
 // The value GLIBC_TUNABLES should have for this process, or false when it should stay
@@ -20,7 +22,7 @@ inline bool huge_page_tunables(std::string& value) {
   if (choice != nullptr && std::string(choice) == "off") return false;
   const char* tunables = std::getenv("GLIBC_TUNABLES");
   value = tunables != nullptr ? tunables : "";
-  if (value.find("glibc.malloc.hugetlb") != std::string::npos) return false;
+  if (value.find(kHugePageKey) != std::string::npos) return false;
   value = value.empty() ? std::string(kHugePageTunable) : value + ":" + kHugePageTunable;
   return true;
 }
