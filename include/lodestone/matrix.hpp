@@ -48,7 +48,8 @@ class Matrix {
   // Collective over comm. Reads and validates the matrix at `group` in `path`.
   static Result<Matrix> load(MPI_Comm comm, const std::string& path, const LoadOptions& options = {});
   // Collective. Wraps an assembled square PETSc matrix the caller built (a
-  // reference is taken). `symmetric` is the caller's promise, checked here.
+  // reference is taken). `symmetric` is the caller's promise, checked here; a
+  // NaN or infinite entry is refused, its row and column named.
   static Result<Matrix> wrap(Mat a, bool symmetric, double symmetry_tolerance = 1e-12);
 
   Matrix() = default;

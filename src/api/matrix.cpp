@@ -3,6 +3,7 @@
 
 #include <fmt/format.h>
 
+#include <cmath>
 #include <cstring>
 
 #include "io/fingerprint.hpp"
@@ -72,7 +73,21 @@ Result<Matrix> Matrix::wrap(Mat a, bool symmetric, double symmetry_tolerance) {
       const PetscInt* c = nullptr;
       const PetscScalar* v = nullptr;
       LODESTONE_PETSC(MatGetRow(a, r, &len, &c, &v));
-      for (PetscInt j = 0; j < len; ++j) fp.add(r, c[j], PetscRealPart(v[j]));
+      // A value that is not a finite number would turn every product into NaN; the
+      // first one is named, as the file readers do.
+      PetscInt bad = -1;
+      for (PetscInt j = 0; j < len; ++j) {
+        const double x = PetscRealPart(v[j]);
+        if (!std::isfinite(x) && bad < 0) bad = j;
+        fp.add(r, c[j], x);
+      }
+      if (bad >= 0) {
+        const double x = PetscRealPart(v[bad]);
+        const PetscInt col = c[bad];
+        LODESTONE_PETSC(MatRestoreRow(a, r, &len, &c, &v));
+        return Status::input(fmt::format("the caller's matrix: {} in row {}, column {}",
+                                         std::isnan(x) ? "NaN" : "infinity", r, col));
+      }
       local_nnz += len;
       LODESTONE_PETSC(MatRestoreRow(a, r, &len, &c, &v));
     }

@@ -1,4 +1,5 @@
 // Reading matrices back from the file layout on any rank count.
+#include <fmt/format.h>
 #include <gtest/gtest.h>
 #include <petscmat.h>
 
@@ -193,4 +194,33 @@ TEST(MatrixRead, DenseSymmetryCheckedAcrossRanksInPieces) {
       EXPECT_TRUE(io::check_symmetric(bad, 0.3, "bad, loose", piece).is_ok()) << "piece " << piece << " pad " << pad;
       MatDestroy(&bad);
     }
+}
+
+// A caller's matrix with a value that is not a finite number is refused on every rank,
+// the entry named, dense (declared symmetric: the symmetry check never sees the NaN) or sparse.
+TEST(MatrixRead, WrapRefusesValuesThatAreNotFinite) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  PetscInt n = 0;
+  for (int r = 0; r < comm_size(comm); ++r) n += 5 + 3 * r;
+  std::vector<double> storage;
+  Mat dense = uneven_dense(comm, n - 2, 1, std::nan(""), 0, storage);
+  auto d = Matrix::wrap(dense, true);
+  ASSERT_FALSE(d.is_ok());
+  EXPECT_EQ(d.status().message(), fmt::format("the caller's matrix: NaN in row {}, column 1", n - 2));
+  MatDestroy(&dense);
+
+  Mat sparse = nullptr;
+  MatCreateAIJ(comm, PETSC_DECIDE, PETSC_DECIDE, 6, 6, 2, nullptr, 2, nullptr, &sparse);
+  PetscInt lo = 0, hi = 0;
+  MatGetOwnershipRange(sparse, &lo, &hi);
+  for (PetscInt i = lo; i < hi; ++i) {
+    MatSetValue(sparse, i, i, 2.0, INSERT_VALUES);
+    if (i == 4) MatSetValue(sparse, i, 3, -HUGE_VAL, INSERT_VALUES);
+  }
+  MatAssemblyBegin(sparse, MAT_FINAL_ASSEMBLY);
+  MatAssemblyEnd(sparse, MAT_FINAL_ASSEMBLY);
+  auto s = Matrix::wrap(sparse, false);
+  ASSERT_FALSE(s.is_ok());
+  EXPECT_EQ(s.status().message(), "the caller's matrix: infinity in row 4, column 3");
+  MatDestroy(&sparse);
 }
