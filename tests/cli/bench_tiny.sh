@@ -51,6 +51,13 @@ for case, tol in (("a", 1e-6), ("b", 1e-6), ("d", 1e-6)):
 for r in rows:
     if r["contender"].startswith("lodestone") and r.get("product_calls"):
         assert float(r["matvecs"]) <= 16 * float(r["product_calls"]), ("products not all counted", r)
+# Each Lodestone row's product is set against the highest of three triad readings: at the
+# start, just before and just after its runs.
+for r in rows:
+    if r["contender"].startswith("lodestone") and r.get("product_of_triad"):
+        readings = [float(x) for x in r["triad_readings"].split(" / ")]
+        assert len(readings) == 3 and abs(float(r["triad_gbs"]) - max(readings)) <= 0.051, r
+        assert abs(float(r["product_of_triad"]) * float(r["triad_gbs"]) / float(r["product_gbs"]) - 1) < 1e-9, r
 walk = have("c", "lodestone auto", 2)[0]
 assert walk["matvecs"] and (walk["converged"] == "4/4" or "did not converge" in walk["note"]), walk
 assert doc["triad_gbs"], "no triad figure"
