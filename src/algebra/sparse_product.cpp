@@ -234,8 +234,23 @@ __attribute__((target("avx2"))) void rows_avx2(int w, const Rows& d, const Rows&
                                                double* y, PetscInt cols, double alpha, double shift, double beta) {
   LODESTONE_CHUNK_CASES(Vec4, Vec2)
 }
+// And with each product and sum fused into one instruction (the compiler contracts
+// them where the target has FMA), for blocks of 6 columns or more: there it ran 3-8 %
+// faster on a 4-million-row Laplacian; at 5 columns it ran 8-10 % slower (the fused
+// chain of a row's sums is longer) and at 4 no different (docs/benchmarks.md).
+constexpr int kFusedFrom = 6;
+template <bool ReadY>
+__attribute__((target("avx2,fma"))) void rows_avx2_fma(int w, const Rows& d, const Rows& o, const double* x,
+                                                       const double* g, double* y, PetscInt cols, double alpha,
+                                                       double shift, double beta) {
+  LODESTONE_CHUNK_CASES(Vec4, Vec2)
+}
 bool have_avx2() {
   static const bool yes = __builtin_cpu_supports("avx2");
+  return yes;
+}
+bool have_fma() {
+  static const bool yes = __builtin_cpu_supports("fma");
   return yes;
 }
 #endif
@@ -245,6 +260,7 @@ template <bool ReadY>
 void run_chunk_rows(int w, const Rows& d, const Rows& o, const double* x, const double* g, double* y, PetscInt cols,
                     double alpha, double shift, double beta) {
 #if defined(__x86_64__) && defined(__GNUC__)
+  if (have_avx2() && have_fma() && w >= kFusedFrom) return rows_avx2_fma<ReadY>(w, d, o, x, g, y, cols, alpha, shift, beta);
   if (have_avx2()) return rows_avx2<ReadY>(w, d, o, x, g, y, cols, alpha, shift, beta);
 #endif
   rows_sse2<ReadY>(w, d, o, x, g, y, cols, alpha, shift, beta);
