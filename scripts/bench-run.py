@@ -553,7 +553,7 @@ def main():
                 row = summarize_lodestone(case, method, p, runs, note, ref, minfo,
                                           {p: max(readings)} if readings else {})
                 row["triad_gbs"] = max(readings) if readings else None
-                row["triad_readings"] = " / ".join(f"{x:.1f}" for x in readings)
+                row["triad_readings"] = " / ".join(f"{x:.1f}" if x else "-" for x in (triad_for.get(p), before, after))
                 resolved = method if method != "auto" else auto_method(minfo["symmetric"])
                 pm = plan_memory(b, path, case, resolved, p)
                 row["plan_mib_per_rank"] = pm / 2**20 if pm else None
