@@ -248,8 +248,9 @@ def median(xs):
     return statistics.median(xs) if xs else None
 
 
-def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad):
-    row = dict(case=case["id"], contender=f"lodestone {method}", ranks=ranks, note=note)
+def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad_gbs):
+    """triad_gbs: the triad figure the product phase is set against (None: not measured)."""
+    row = dict(case=case["id"], contender=f"lodestone {method}", ranks=ranks, note=note, triad_gbs=triad_gbs)
     if not runs:
         return row
     last = runs[-1]
@@ -270,8 +271,7 @@ def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad):
         row["product_s"] = t
         row["product_calls"] = calls
         row["product_gbs"] = bytes_ / t / 1e9 if t > 0 else None
-        tri = triad.get(ranks)
-        row["product_of_triad"] = row["product_gbs"] / tri if tri and row["product_gbs"] else None
+        row["product_of_triad"] = row["product_gbs"] / triad_gbs if triad_gbs and row["product_gbs"] else None
     return row
 
 
@@ -549,11 +549,10 @@ def main():
                 before = triad_at(b, cores_used, a.tiny)
                 runs, note = run_lodestone(b, case, path, method, p, work, repeat, minfo)
                 after = triad_at(b, cores_used, a.tiny)
-                readings = [x for x in (triad_for.get(p), before, after) if x]
-                row = summarize_lodestone(case, method, p, runs, note, ref, minfo,
-                                          {p: max(readings)} if readings else {})
-                row["triad_gbs"] = max(readings) if readings else None
-                row["triad_readings"] = " / ".join(f"{x:.1f}" if x else "-" for x in (triad_for.get(p), before, after))
+                readings = (triad_for.get(p), before, after)
+                measured = [x for x in readings if x]
+                row = summarize_lodestone(case, method, p, runs, note, ref, minfo, max(measured) if measured else None)
+                row["triad_readings"] = " / ".join(f"{x:.1f}" if x else "-" for x in readings)
                 resolved = method if method != "auto" else auto_method(minfo["symmetric"])
                 pm = plan_memory(b, path, case, resolved, p)
                 row["plan_mib_per_rank"] = pm / 2**20 if pm else None
