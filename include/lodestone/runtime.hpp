@@ -4,7 +4,10 @@
 // let it go out of scope at the end. It initialises MPI (unless the caller did)
 // and PETSc, makes PETSc report errors by return value instead of printing
 // stack traces, and silences HDF5's own error printing: Lodestone reports every
-// failure in its own words, once, through Status. Before it, a program may put
+// failure in its own words, once, through Status. Under Open MPI, before MPI starts,
+// it prefers the ROMIO implementation of MPI-IO and, for a run on one machine, names
+// the messaging layer (mpi_transport_choice); a choice of the user's stands against
+// both. Before it, a program may put
 // the C library's heap on transparent huge pages (restart_on_huge_page_heap).
 #pragma once
 
@@ -29,6 +32,15 @@ void restart_on_huge_page_heap(char** argv);
 // huge pages reserved in hugetlbfs (2, which only a user sets), with the GLIBC_TUNABLES
 // the process runs with.
 std::string heap_pages();
+
+// How MPI's messaging layer was chosen, in words (for --version). Under Open MPI, a
+// Runtime that starts MPI for a run on one machine, outside a batch job, names Open
+// MPI's shared-memory layer itself (OMPI_MCA_pml=ob1), which spares each rank Open
+// MPI's search for network hardware (0.2 s at start-up on a machine without any); it
+// leaves the choice to Open MPI when the ranks span machines, in a batch job, or when
+// OMPI_MCA_pml or OMPI_MCA_mtl is set in the environment or in Open MPI's parameter
+// files.
+std::string mpi_transport_choice();
 
 class Runtime {
  public:

@@ -5,7 +5,10 @@
 
 #include <csignal>
 #include <cstdlib>
+#include <fstream>
+#include <sstream>
 
+#include "api/mpi_transport.hpp"
 #include "io/h5.hpp"
 #include "state/stop_signals.hpp"
 
@@ -29,10 +32,50 @@ void prefer_romio() {
 #endif
 }
 
+// What choose_messaging_layer decided, for --version (mpi_transport_choice).
+std::string messaging_choice = "messaging layer as the MPI library chooses: MPI was started by the program";
+
+// On one machine, outside a batch job, with no choice of the user's: Open MPI's ob1
+// layer by name, without the search for network hardware (api/mpi_transport.hpp).
+void choose_messaging_layer() {
+#if defined(OPEN_MPI) && OPEN_MPI
+  int initialized = 0;
+  MPI_Initialized(&initialized);
+  if (initialized) return;
+  const mpi_transport::Environment env = [](const std::string& name) -> std::optional<std::string> {
+    const char* value = std::getenv(name.c_str());
+    if (value == nullptr) return std::nullopt;
+    return std::string(value);
+  };
+  std::vector<std::pair<std::string, std::string>> files;
+  for (const auto& path : mpi_transport::parameter_files(env, LODESTONE_OMPI_SYSCONFDIR)) {
+    std::ifstream in(path);
+    if (!in) continue;
+    std::stringstream text;
+    text << in.rdbuf();
+    files.emplace_back(path, text.str());
+  }
+  const std::string reason = mpi_transport::reason_to_leave_alone(env, files);
+  if (!reason.empty()) {
+    messaging_choice = "messaging layer as Open MPI chooses: " + reason;
+    return;
+  }
+  setenv(mpi_transport::kVariable, mpi_transport::kValue, 0);
+  messaging_choice = std::string("Open MPI's ob1 messaging layer, named by Lodestone for a run on one machine (") +
+                     mpi_transport::kVariable + "=" + mpi_transport::kValue + "; set " +
+                     mpi_transport::kVariable + " yourself to choose)";
+#else
+  messaging_choice = "messaging layer as the MPI library chooses";
+#endif
+}
+
 }  // namespace
+
+std::string mpi_transport_choice() { return messaging_choice; }
 
 Runtime::Runtime(int* argc, char*** argv) {
   prefer_romio();
+  choose_messaging_layer();
   // PETSc reads its own options (e.g. -log_view) from the command line. Its signal
   // handler stays out: stop signals are Lodestone's (state/stop_signals.hpp), and
   // PETSc's shutdown would set SIGTERM back to its default under them.

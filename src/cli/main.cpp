@@ -50,7 +50,8 @@ int main(int argc, char** argv) {
 
   CLI::App app{"Lodestone: a few dominant eigenpairs of very large matrices, on MPI.", "lodestone"};
   app.require_subcommand(1);
-  app.set_version_flag("--version", "lodestone 0.1.0\nmemory: C heap on " + heap_pages());
+  app.set_version_flag("--version", "lodestone 0.1.0\nmemory: C heap on " + heap_pages() +
+                                        "\nmpi: " + mpi_transport_choice());
   std::vector<cli::Command> commands = {
       // In the order of the pipeline: get a matrix, look at it, solve, check, plan.
       cli::make_import_command(app),
