@@ -74,7 +74,7 @@ TEST(SparseProduct, MatchesMatMultForEveryWidthAndLayout) {
   auto m = scattered_matrix();
   ASSERT_TRUE(m.is_ok()) << m.status().message();
   Mat a = m->petsc();
-  for (int cols : {1, 2, 3, 5, 8, 12, 13, 25}) {
+  for (int cols : {1, 2, 3, 5, 6, 7, 8, 11, 12, 13, 25}) {
     SCOPED_TRACE(cols);
     algebra::Operator op(a);
     auto x = Block::like(a, cols), y = Block::like(a, cols), y0 = Block::like(a, cols);
