@@ -141,9 +141,10 @@ void count_continued(const Rows& d, std::int64_t& continued, std::int64_t& sampl
 // V, then NH (0 or 1) vectors H, then NT values one by one. Where that would take both an
 // H and a single value after at least one V (7 and 11 columns with AVX2), one more V (OV)
 // on the last L columns takes their place, overlapping the V before it (those columns are
-// summed twice, alike): one load and one multiply-add less per stored entry, 9-10 % faster
-// on a 4-million-row Laplacian; at 5, 6, 9 and 10 columns it was no faster or slower
-// (docs/benchmarks.md).
+// summed twice, alike): one load and one multiply-add less per stored entry. On a
+// 4-million-row Laplacian 7 and 11 columns ran 9 % faster, though 6 and 8, whose code did
+// not change, gained as much from the new layout of the compiled code; overlapping at 5, 6,
+// 9 or 10 columns was no faster (docs/benchmarks.md).
 template <typename V, typename H, int W>
 struct Split {
   static constexpr int L = sizeof(V) / sizeof(double), LH = sizeof(H) / sizeof(double);
