@@ -80,6 +80,9 @@ def machine_and_versions(lodestone):
     m = re.search(r"(\d+\.\d+\.\d+)", sh(["mpirun", "--version"]).stdout)
     info["openmpi"] = m.group(1) if m else "unknown"
     info["python"] = sys.version.split()[0]
+    # How the command starts here, as its runs will (heap pages, MPI messaging layer).
+    lines = sh(MPIRUN + ["-n", "1", lodestone, "--version"]).stdout.splitlines()
+    info["lodestone_start"] = "; ".join(line.strip() for line in lines[1:]) or "unknown"
     return info
 
 
@@ -483,6 +486,7 @@ def main():
     print(f"machine: {info['cpu']}, {info['cores']} cores, {info['memory_gib']} GiB; load {info['load_average_at_start']:.2f}")
     print(f"versions: lodestone {info['lodestone']}, PETSc {info['petsc']}, SciPy {info['scipy']}, "
           f"NumPy {info['numpy']}, OpenMPI {info['openmpi']}")
+    print(f"start-up: {info['lodestone_start']}")
     sys.stdout.flush()
 
     triad = triad_anchor(b, info["cores"], a.tiny)

@@ -16,6 +16,7 @@ timeout 540 "$LODESTONE_SOURCE/scripts/bench" --tiny --no-micro --build "$LODEST
 grep -q "tiny, median of 1" "$tmp/table.txt" || fail "no tiny-mode header"
 grep -q "^machine: .* cores" "$tmp/table.txt" || fail "no machine line"
 grep -q "^versions: lodestone .*PETSc .*SciPy .*OpenMPI" "$tmp/table.txt" || fail "no versions line"
+grep -q "^start-up: memory: C heap on .*; mpi: " "$tmp/table.txt" || fail "no start-up line (heap, MPI messaging layer)"
 grep -q "^triad: 1 core" "$tmp/table.txt" || fail "no triad anchor"
 grep -q "^targets (issue 6):" "$tmp/table.txt" || fail "no targets section"
 grep -Eq "^  (PASS|MISS) +\(a\) auto P=2" "$tmp/table.txt" || fail "no verdict for the case (a) target"
