@@ -164,16 +164,17 @@ template <typename T>
   return t;
 }
 
-// acc, hacc and tail += the stored entries of row i of r times the rows of src.
+// acc (NV vectors, then the overlapping one if OV), hacc and tail += the stored entries
+// of row i of r times the rows of src.
 template <typename V, typename H, int W>
 [[gnu::always_inline]] inline void add_row(const Rows& r, PetscInt i, const double* src, PetscInt cols, V* acc,
-                                           V& ov, H* hacc, double* tail) {
+                                           H* hacc, double* tail) {
   using S = Split<V, H, W>;
   for (PetscInt k = r.start[i]; k < r.start[i + 1]; ++k) {
     const double v = r.val[k];
     const double* c = src + static_cast<std::ptrdiff_t>(r.col[k]) * cols;
     for (int q = 0; q < S::NV; ++q) acc[q] += v * load<V>(c + q * S::L);
-    if constexpr (S::OV) ov += v * load<V>(c + S::at_ov);
+    if constexpr (S::OV) acc[S::NV] += v * load<V>(c + S::at_ov);
     for (int q = 0; q < S::NH; ++q) hacc[q] += v * load<H>(c + S::at_h + q * S::LH);
     for (int t = 0; t < S::NT; ++t) tail[t] += v * c[S::at_t + t];
   }
@@ -202,17 +203,16 @@ template <typename V, typename H, int W, bool ReadY>
   using S = Split<V, H, W>;
   const PetscInt m = d.count;
   for (PetscInt i = 0; i < m; ++i) {
-    V acc[S::NV > 0 ? S::NV : 1] = {};
-    V ov = {};
+    V acc[S::NV + S::OV > 0 ? S::NV + S::OV : 1] = {};
     H hacc[S::NH > 0 ? S::NH : 1] = {};
     double tail[S::NT > 0 ? S::NT : 1] = {};
-    add_row<V, H, W>(d, i, x, cols, acc, ov, hacc, tail);
-    if (o.start != nullptr) add_row<V, H, W>(o, i, g, cols, acc, ov, hacc, tail);
+    add_row<V, H, W>(d, i, x, cols, acc, hacc, tail);
+    if (o.start != nullptr) add_row<V, H, W>(o, i, g, cols, acc, hacc, tail);
     const double* xi = x + static_cast<std::ptrdiff_t>(i) * cols;
     double* yi = y + static_cast<std::ptrdiff_t>(i) * cols;
     // The overlapping vector's result is taken before any of its columns' old Y is overwritten.
     V last = {};
-    if constexpr (S::OV) last = result<V, ReadY>(ov, xi + S::at_ov, yi + S::at_ov, alpha, shift, beta);
+    if constexpr (S::OV) last = result<V, ReadY>(acc[S::NV], xi + S::at_ov, yi + S::at_ov, alpha, shift, beta);
     for (int q = 0; q < S::NV; ++q) finish<V, ReadY>(acc[q], xi + q * S::L, yi + q * S::L, alpha, shift, beta);
     if constexpr (S::OV) __builtin_memcpy(yi + S::at_ov, &last, sizeof last);
     for (int q = 0; q < S::NH; ++q)

@@ -24,9 +24,7 @@ namespace {
 // (the names of Open MPI 4 and 5). A user's own choice, in the environment, stands.
 void prefer_romio() {
 #if defined(OPEN_MPI) && OPEN_MPI
-  int initialized = 0;
-  MPI_Initialized(&initialized);
-  if (initialized || std::getenv("OMPI_MCA_io") != nullptr) return;
+  if (std::getenv("OMPI_MCA_io") != nullptr) return;
   setenv("OMPI_MCA_io_romio321_priority", "40", 0);
   setenv("OMPI_MCA_io_romio341_priority", "40", 0);
 #endif
@@ -39,9 +37,6 @@ std::string messaging_choice = "messaging layer as the MPI library chooses: MPI 
 // layer by name, without the search for network hardware (api/mpi_transport.hpp).
 void choose_messaging_layer() {
 #if defined(OPEN_MPI) && OPEN_MPI
-  int initialized = 0;
-  MPI_Initialized(&initialized);
-  if (initialized) return;
   const mpi_transport::Environment env = [](const std::string& name) -> std::optional<std::string> {
     const char* value = std::getenv(name.c_str());
     if (value == nullptr) return std::nullopt;
@@ -74,8 +69,13 @@ void choose_messaging_layer() {
 std::string mpi_transport_choice() { return messaging_choice; }
 
 Runtime::Runtime(int* argc, char*** argv) {
-  prefer_romio();
-  choose_messaging_layer();
+  // Settings MPI reads when it starts: too late if the program started it already.
+  int started = 0;
+  MPI_Initialized(&started);
+  if (!started) {
+    prefer_romio();
+    choose_messaging_layer();
+  }
   // PETSc reads its own options (e.g. -log_view) from the command line. Its signal
   // handler stays out: stop signals are Lodestone's (state/stop_signals.hpp), and
   // PETSc's shutdown would set SIGTERM back to its default under them.
