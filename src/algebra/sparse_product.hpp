@@ -1,10 +1,10 @@
 // Sparse (AIJ) matrix times a dense block, Y = alpha (A X - shift X) + beta Y, in
-// one pass over the local rows: each row of the matrix is read once per eight
-// columns of the block, and the shift and the update of Y happen while the row's
-// sums are still in registers. PETSc 3.18's sparse x dense product reads the
-// matrix once per four columns, writes A X to a block of its own and needs a
-// second pass to combine it with X and Y (a Chebyshev step), which is why the
-// methods' hot loop runs this kernel instead (docs/benchmarks.md, target 3).
+// one pass over the local rows: each row of the matrix is read once per twelve
+// columns of the block (kChunk in the source), and the shift and the update of Y
+// happen while the row's sums are still in registers. PETSc 3.18's sparse x dense
+// product reads the matrix once per four columns, writes A X to a block of its own
+// and needs a second pass to combine it with X and Y (a Chebyshev step), which is
+// why the methods' hot loop runs this kernel instead (docs/benchmarks.md, target 3).
 //
 // On more than one rank the values of X that the local rows need from other
 // ranks (the ghost values, the off-diagonal part's columns) arrive through one
