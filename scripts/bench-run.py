@@ -165,11 +165,14 @@ def parse_log_view(path):
                                            "MatProductSymbolic", "MatMatMultSym", "LdsDenseBlockProd",
                                            "LdsSparseBlockProd", "LdsSparseBlockUpd"):
             try:
-                # count (max over ranks), time (max over ranks), summed over the stages the
-                # event appears in (Set up, Iterate, Extract pairs, ...; -log_view prints one
-                # line per stage).
-                count, seconds = events.get(parts[0], (0, 0.0))
-                events[parts[0]] = (count + int(parts[1]), seconds + float(parts[3]))
+                # count (max over ranks), time (max over ranks), and the fastest rank's time
+                # (the max over the max/min ratio -log_view prints beside it), summed over the
+                # stages the event appears in (Set up, Iterate, Extract pairs, ...; -log_view
+                # prints one line per stage).
+                count, seconds, fastest = events.get(parts[0], (0, 0.0, 0.0))
+                ratio = float(parts[4])
+                events[parts[0]] = (count + int(parts[1]), seconds + float(parts[3]),
+                                    fastest + (float(parts[3]) / ratio if ratio > 0 else 0.0))
             except ValueError:
                 pass
     # The numeric phase of the block product (PETSc 3.18 logs MatMatMult's as MatMatMultNum, or
@@ -177,15 +180,21 @@ def parse_log_view(path):
     # plus Lodestone's own dense product on more than one rank (LdsDenseBlockProd, algebra/operator.cpp)
     # and its own sparse product (LdsSparseBlockProd: Y = A X; LdsSparseBlockUpd: Y = a (A X - s X) + b Y,
     # which also reads the old Y; algebra/sparse_product.cpp).
-    seconds = 0.0
+    # The fastest rank's time beside the slowest rank's says how unevenly the ranks ran: on
+    # rows split evenly, a spread well above 1 means a core shared with other work (or waits
+    # for another rank's ghost values counted in the event), which the max-over-ranks time,
+    # and so the product's fraction of the triad, carries in full.
+    seconds = fastest = 0.0
     calls = 0
     for name in ("MatMatMultNum" if "MatMatMultNum" in events else "MatProductNumeric", "MatMult", "LdsDenseBlockProd",
                  "LdsSparseBlockProd", "LdsSparseBlockUpd"):
         if name in events:
             calls += events[name][0]
             seconds += events[name][1]
-    updates = events.get("LdsSparseBlockUpd", (0, 0.0))[0]
-    return {"calls": calls, "update_calls": updates, "seconds": seconds, "events": events}
+            fastest += events[name][2]
+    updates = events.get("LdsSparseBlockUpd", (0, 0.0, 0.0))[0]
+    return {"calls": calls, "update_calls": updates, "seconds": seconds,
+            "rank_spread": seconds / fastest if fastest > 0 else None, "events": events}
 
 
 def product_bytes(calls, matvecs, n, nnz, dense, update_calls=0):
@@ -272,6 +281,7 @@ def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad_gbs):
         bytes_ = product_bytes(calls, last["matvecs"], info["rows"], info["nnz"], info["dense"],
                                logs[-1].get("update_calls", 0))
         row["product_s"] = t
+        row["product_rank_spread"] = median([l["rank_spread"] for l in logs])
         row["product_calls"] = calls
         row["product_gbs"] = bytes_ / t / 1e9 if t > 0 else None
         row["product_of_triad"] = row["product_gbs"] / triad_gbs if triad_gbs and row["product_gbs"] else None
@@ -562,7 +572,10 @@ def main():
                 row["plan_mib_per_rank"] = pm / 2**20 if pm else None
                 case_rows.append(row)
                 print(f"  {row['contender']:<20} P={p}  wall {fmt(row.get('wall_s'))} s  matvecs {fmt(row.get('matvecs'))}"
-                      f"  triad at start / before / after {row['triad_readings']} GB/s  {row.get('note', '')}")
+                      f"  triad at start / before / after {row['triad_readings']} GB/s"
+                      + (f"  product slowest/fastest rank {row['product_rank_spread']:.2f}"
+                         if p > 1 and row.get("product_rank_spread") else "")
+                      + f"  {row.get('note', '')}")
                 sys.stdout.flush()
         # Ratios against the outside contender of the case.
         base = next((r for r in case_rows if r["contender"].startswith(("scipy", "lapacke")) and r.get("wall_s")), None)
@@ -608,7 +621,9 @@ def main():
                 f = r.get("product_of_triad") if r else None
                 targets.append(dict(target=f"({cid}) product phase >= 80% of triad, P={p}",
                                     measured=(f"{100 * f:.0f}% ({r['product_gbs']:.1f} GB/s against the triad's "
-                                              f"{r['triad_gbs']:.1f}, the highest of {r['triad_readings']})"
+                                              f"{r['triad_gbs']:.1f}, the highest of {r['triad_readings']}"
+                                              + (f"; slowest/fastest rank {r['product_rank_spread']:.2f}"
+                                                 if p > 1 and r.get("product_rank_spread") else "") + ")"
                                               if f else "not measured"),
                                     verdict=("PASS" if f >= 0.8 else "MISS") if f else "n/a"))
         worst = None
@@ -660,7 +675,7 @@ def main():
         print(f"  {t['verdict']:<5} {t['target']}: {t['measured']}")
     print(f"\nnoise: one machine shared with other work (load {os.getloadavg()[0]:.2f} at the end); medians of {repeat}.")
 
-    keys = [k for k, _ in COLUMNS] + ["solve_s", "product_s", "product_calls", "triad_gbs", "triad_readings",
+    keys = [k for k, _ in COLUMNS] + ["solve_s", "product_s", "product_rank_spread", "product_calls", "triad_gbs", "triad_readings",
                                       "rss_vs_plan", "reference"]
     with open(os.path.join(out, "table.csv"), "w", newline="") as f:
         w = csv.DictWriter(f, fieldnames=keys, extrasaction="ignore")

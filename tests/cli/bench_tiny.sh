@@ -59,6 +59,10 @@ for r in rows:
         readings = [float(x) for x in r["triad_readings"].split(" / ")]
         assert len(readings) == 3 and abs(float(r["triad_gbs"]) - max(readings)) <= 0.051, r
         assert abs(float(r["product_of_triad"]) * float(r["triad_gbs"]) / float(r["product_gbs"]) - 1) < 1e-9, r
+# The slowest rank's product time over the fastest's, from -log_view's max/min ratio: at least 1.
+for r in rows:
+    if r["contender"].startswith("lodestone") and r.get("product_calls") and r["ranks"] == "2":
+        assert 1.0 <= float(r["product_rank_spread"]) < 100, ("rank spread", r)
 walk = have("c", "lodestone auto", 2)[0]
 assert walk["matvecs"] and (walk["converged"] == "4/4" or "did not converge" in walk["note"]), walk
 assert doc["triad_gbs"], "no triad figure"
