@@ -183,7 +183,9 @@ def parse_log_view(path):
     # The fastest rank's time beside the slowest rank's says how unevenly the ranks ran: on
     # rows split evenly, a spread well above 1 means a core shared with other work (or waits
     # for another rank's ghost values counted in the event), which the max-over-ranks time,
-    # and so the product's fraction of the triad, carries in full.
+    # and so the product's fraction of the triad, carries in full. -log_view prints the ratio
+    # to one decimal, and the fastest times of different stages may be different ranks', so
+    # the spread is coarse (shown to one decimal) and never smaller than the truth.
     seconds = fastest = 0.0
     calls = 0
     for name in ("MatMatMultNum" if "MatMatMultNum" in events else "MatProductNumeric", "MatMult", "LdsDenseBlockProd",
@@ -573,7 +575,7 @@ def main():
                 case_rows.append(row)
                 print(f"  {row['contender']:<20} P={p}  wall {fmt(row.get('wall_s'))} s  matvecs {fmt(row.get('matvecs'))}"
                       f"  triad at start / before / after {row['triad_readings']} GB/s"
-                      + (f"  product slowest/fastest rank {row['product_rank_spread']:.2f}"
+                      + (f"  product slowest/fastest rank {row['product_rank_spread']:.1f}"
                          if p > 1 and row.get("product_rank_spread") else "")
                       + f"  {row.get('note', '')}")
                 sys.stdout.flush()
@@ -622,7 +624,7 @@ def main():
                 targets.append(dict(target=f"({cid}) product phase >= 80% of triad, P={p}",
                                     measured=(f"{100 * f:.0f}% ({r['product_gbs']:.1f} GB/s against the triad's "
                                               f"{r['triad_gbs']:.1f}, the highest of {r['triad_readings']}"
-                                              + (f"; slowest/fastest rank {r['product_rank_spread']:.2f}"
+                                              + (f"; slowest/fastest rank {r['product_rank_spread']:.1f}"
                                                  if p > 1 and r.get("product_rank_spread") else "") + ")"
                                               if f else "not measured"),
                                     verdict=("PASS" if f >= 0.8 else "MISS") if f else "n/a"))
