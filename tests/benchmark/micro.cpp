@@ -5,12 +5,16 @@
 // and a checkpoint write.
 // Built with -DLODESTONE_BENCHMARKS=ON; scripts/bench runs it and keeps its JSON.
 //
-//   bench_micro [--grid N] [--dir DIR] [Google Benchmark flags]
+//   bench_micro [--grid N] [--grid-x NX] [--dir DIR] [Google Benchmark flags]
 // --grid: side of the 2-D Laplacian the block kernels use (default 1000: 10^6 rows).
+// --grid-x: a grid NX wide and N * N / NX high instead (about as many rows): a row's
+// farthest neighbours NX rows away, which sets how long a row of a block must stay in
+// cache between its first and last use.
 // One rank only (it refuses more).
 #include <benchmark/benchmark.h>
 #include <mpi.h>
 
+#include <algorithm>
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
@@ -31,6 +35,7 @@ using namespace lodestone;
 namespace {
 
 std::int64_t g_grid = 1000;
+std::int64_t g_grid_x = 0;  // 0: square
 std::string g_dir = "/tmp";
 std::unique_ptr<Matrix> g_matrix;
 
@@ -171,13 +176,16 @@ int main(int argc, char** argv) {
   int kept = 1;
   for (int i = 1; i < argc; ++i) {
     if (!std::strcmp(argv[i], "--grid") && i + 1 < argc) g_grid = std::atoll(argv[++i]);
+    else if (!std::strcmp(argv[i], "--grid-x") && i + 1 < argc) g_grid_x = std::atoll(argv[++i]);
     else if (!std::strcmp(argv[i], "--dir") && i + 1 < argc) g_dir = argv[++i];
     else argv[kept++] = argv[i];
   }
   argc = kept;
   const std::string path = g_dir + "/micro-laplace2d.h5";
-  auto rows = io::generate_laplace2d(MPI_COMM_WORLD, g_grid, g_grid);
-  if (!io::write_csr_file(MPI_COMM_WORLD, path, "/matrix", g_grid * g_grid, true, rows).ok()) return 1;
+  const std::int64_t nx = g_grid_x > 0 ? g_grid_x : g_grid;
+  const std::int64_t ny = std::max<std::int64_t>(1, g_grid * g_grid / nx);
+  auto rows = io::generate_laplace2d(MPI_COMM_WORLD, nx, ny);
+  if (!io::write_csr_file(MPI_COMM_WORLD, path, "/matrix", nx * ny, true, rows).ok()) return 1;
   auto m = Matrix::load(MPI_COMM_WORLD, path);
   if (!m) return 1;
   g_matrix = std::make_unique<Matrix>(std::move(*m));
