@@ -199,6 +199,12 @@ def parse_log_view(path):
             "rank_spread": seconds / fastest if fastest > 0 else None, "events": events}
 
 
+def rank_spread_text(row, lead):
+    """'<lead>slowest/fastest rank 1.2' for a run on more than one rank, else ''."""
+    spread = row.get("product_rank_spread")
+    return f"{lead}slowest/fastest rank {spread:.1f}" if row.get("ranks", 1) > 1 and spread else ""
+
+
 def product_bytes(calls, matvecs, n, nnz, dense, update_calls=0):
     """Bytes the product phase moves (stated formula, docs/benchmarks.md):
     once per product call, whatever its block width: the matrix
@@ -575,9 +581,7 @@ def main():
                 case_rows.append(row)
                 print(f"  {row['contender']:<20} P={p}  wall {fmt(row.get('wall_s'))} s  matvecs {fmt(row.get('matvecs'))}"
                       f"  triad at start / before / after {row['triad_readings']} GB/s"
-                      + (f"  product slowest/fastest rank {row['product_rank_spread']:.1f}"
-                         if p > 1 and row.get("product_rank_spread") else "")
-                      + f"  {row.get('note', '')}")
+                      f"{rank_spread_text(row, '  product ')}  {row.get('note', '')}")
                 sys.stdout.flush()
         # Ratios against the outside contender of the case.
         base = next((r for r in case_rows if r["contender"].startswith(("scipy", "lapacke")) and r.get("wall_s")), None)
@@ -624,8 +628,7 @@ def main():
                 targets.append(dict(target=f"({cid}) product phase >= 80% of triad, P={p}",
                                     measured=(f"{100 * f:.0f}% ({r['product_gbs']:.1f} GB/s against the triad's "
                                               f"{r['triad_gbs']:.1f}, the highest of {r['triad_readings']}"
-                                              + (f"; slowest/fastest rank {r['product_rank_spread']:.1f}"
-                                                 if p > 1 and r.get("product_rank_spread") else "") + ")"
+                                              f"{rank_spread_text(r, '; ')})"
                                               if f else "not measured"),
                                     verdict=("PASS" if f >= 0.8 else "MISS") if f else "n/a"))
         worst = None
