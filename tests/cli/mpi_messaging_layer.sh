@@ -4,12 +4,7 @@
 # (src/api/mpi_transport.hpp); `--version` says so. A batch job, a layer chosen in the
 # environment, or a choice in a parameter file leaves the choice to Open MPI, which then
 # looks at all its layers. Solves give the same eigenvalues either way.
-set -euo pipefail
-: "${LODESTONE:?}"
-fail() { echo "FAIL: $*" >&2; exit 1; }
-run() { timeout 120 mpirun --allow-run-as-root --oversubscribe "$@"; }
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
+source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 # Whatever this shell was started in: no batch job, no choice of layer.
 unset SLURM_JOB_ID PBS_JOBID LSB_JOBID FLUX_JOB_ID OMPI_MCA_pml OMPI_MCA_mtl OMPI_MCA_mca_base_param_files
 version_line() { "$@" --version | sed -n 3p; }
@@ -21,7 +16,7 @@ layers_loaded() {
 
 named="mpi: Open MPI's ob1 messaging layer, named by Lodestone for a run on one machine (OMPI_MCA_pml=ob1; set OMPI_MCA_pml yourself to choose)"
 [ "$(version_line "$LODESTONE")" = "$named" ] || fail "one process: $(version_line "$LODESTONE")"
-[ "$(run -n 2 "$LODESTONE" --version | sed -n 3p)" = "$named" ] || fail "mpirun -n 2 on one machine: not named"
+[ "$(run 2 "$LODESTONE" --version | sed -n 3p)" = "$named" ] || fail "mpirun -n 2 on one machine: not named"
 [ "$(layers_loaded "$LODESTONE")" = "ob1 " ] || fail "Open MPI loaded other layers: $(layers_loaded "$LODESTONE")"
 
 in_job="$(SLURM_JOB_ID=77 version_line "$LODESTONE")"
@@ -29,18 +24,18 @@ in_job="$(SLURM_JOB_ID=77 version_line "$LODESTONE")"
 [ "$(SLURM_JOB_ID=77 layers_loaded "$LODESTONE")" != "ob1 " ] || fail "in a batch job Open MPI was still told ob1"
 [ "$(OMPI_MCA_pml=^cm version_line "$LODESTONE")" = "mpi: messaging layer as Open MPI chooses: OMPI_MCA_pml is set" ] ||
   fail "the user's OMPI_MCA_pml was not left alone"
-[ "$(PBS_JOBID=9.server run -n 2 -x PBS_JOBID "$LODESTONE" --version | sed -n 3p)" = \
+[ "$(PBS_JOBID=9.server run 2 -x PBS_JOBID "$LODESTONE" --version | sed -n 3p)" = \
   "mpi: messaging layer as Open MPI chooses: a batch job, PBS_JOBID is set" ] || fail "PBS job under mpirun"
-printf 'pml = cm\n' > "$tmp/mine.conf"
-[ "$(OMPI_MCA_mca_base_param_files="$tmp/mine.conf" version_line "$LODESTONE")" = \
-  "mpi: messaging layer as Open MPI chooses: a messaging layer is chosen in $tmp/mine.conf" ] ||
+printf 'pml = cm\n' > "$work/mine.conf"
+[ "$(OMPI_MCA_mca_base_param_files="$work/mine.conf" version_line "$LODESTONE")" = \
+  "mpi: messaging layer as Open MPI chooses: a messaging layer is chosen in $work/mine.conf" ] ||
   fail "a choice in a parameter file was not left alone"
 
 # The same eigenvalues with Lodestone's choice and with Open MPI's.
-"$LODESTONE" generate laplace2d --nx 60 --ny 50 "$tmp/a.h5" >/dev/null
-run -n 2 "$LODESTONE" solve "$tmp/a.h5" --pairs 4 --select largest --quiet --out "$tmp/named.h5"
-run -n 2 -x SLURM_JOB_ID=77 "$LODESTONE" solve "$tmp/a.h5" --pairs 4 --select largest --quiet --out "$tmp/open.h5"
-/usr/bin/python3 - "$tmp/named.h5" "$tmp/open.h5" <<'PY'
+"$LODESTONE" generate laplace2d --nx 60 --ny 50 "$work/a.h5" >/dev/null
+run 2 "$LODESTONE" solve "$work/a.h5" --pairs 4 --select largest --quiet --out "$work/named.h5"
+run 2 -x SLURM_JOB_ID=77 "$LODESTONE" solve "$work/a.h5" --pairs 4 --select largest --quiet --out "$work/open.h5"
+"$PY" - "$work/named.h5" "$work/open.h5" <<'PY'
 import sys, h5py
 a, b = (h5py.File(f, "r")["eigenvalues"][...] for f in sys.argv[1:])
 assert len(a) == 4 and abs(a - b).max() <= 1e-12 * abs(a).max(), (a, b)
