@@ -59,6 +59,10 @@ for r in rows:
         readings = [float(x) for x in r["triad_readings"].split(" / ")]
         assert len(readings) == 3 and abs(float(r["triad_gbs"]) - max(readings)) <= 0.051, r
         assert abs(float(r["product_of_triad"]) * float(r["triad_gbs"]) / float(r["product_gbs"]) - 1) < 1e-9, r
+        # ... and beside it the fraction of the lowest reading, never smaller.
+        lowest = min(x for x in readings if x > 0)
+        assert float(r["product_of_lowest_triad"]) >= float(r["product_of_triad"]), r
+        assert abs(float(r["product_of_lowest_triad"]) * lowest / float(r["product_gbs"]) - 1) < 0.01, r
 # The slowest rank's product time over the fastest's, from -log_view's max/min ratio: at least 1.
 for r in rows:
     if r["contender"].startswith("lodestone") and r.get("product_calls") and r["ranks"] == "2":
