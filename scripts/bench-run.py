@@ -268,9 +268,14 @@ def median(xs):
     return statistics.median(xs) if xs else None
 
 
-def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad_gbs):
-    """triad_gbs: the triad figure the product phase is set against (None: not measured)."""
-    row = dict(case=case["id"], contender=f"lodestone {method}", ranks=ranks, note=note, triad_gbs=triad_gbs)
+def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad_readings):
+    """triad_readings: the triad's GB/s at the suite's start, just before and just after the runs
+    (None where not measured). The product phase is set against the highest (never flattered by a
+    slow minute); its fraction of the lowest is kept beside it."""
+    measured = [x for x in triad_readings if x]
+    triad_gbs = max(measured) if measured else None
+    row = dict(case=case["id"], contender=f"lodestone {method}", ranks=ranks, note=note, triad_gbs=triad_gbs,
+               triad_readings=" / ".join(f"{x:.1f}" if x else "-" for x in triad_readings))
     if not runs:
         return row
     last = runs[-1]
@@ -292,7 +297,9 @@ def summarize_lodestone(case, method, ranks, runs, note, ref, info, triad_gbs):
         row["product_rank_spread"] = median([l["rank_spread"] for l in logs])
         row["product_calls"] = calls
         row["product_gbs"] = bytes_ / t / 1e9 if t > 0 else None
-        row["product_of_triad"] = row["product_gbs"] / triad_gbs if triad_gbs and row["product_gbs"] else None
+        if triad_gbs and row["product_gbs"]:
+            row["product_of_triad"] = row["product_gbs"] / triad_gbs
+            row["product_of_lowest_triad"] = row["product_gbs"] / min(measured)
     return row
 
 
@@ -571,13 +578,7 @@ def main():
                 before = triad_at(b, cores_used, a.tiny)
                 runs, note = run_lodestone(b, case, path, method, p, work, repeat, minfo)
                 after = triad_at(b, cores_used, a.tiny)
-                readings = (triad_for.get(p), before, after)
-                measured = [x for x in readings if x]
-                row = summarize_lodestone(case, method, p, runs, note, ref, minfo, max(measured) if measured else None)
-                row["triad_readings"] = " / ".join(f"{x:.1f}" if x else "-" for x in readings)
-                # Beside it, the fraction of the lowest reading: how far the verdict moves with the host.
-                if row.get("product_gbs") and measured:
-                    row["product_of_lowest_triad"] = row["product_gbs"] / min(measured)
+                row = summarize_lodestone(case, method, p, runs, note, ref, minfo, (triad_for.get(p), before, after))
                 resolved = method if method != "auto" else auto_method(minfo["symmetric"])
                 pm = plan_memory(b, path, case, resolved, p)
                 row["plan_mib_per_rank"] = pm / 2**20 if pm else None
