@@ -2,7 +2,8 @@
 """The benchmark suite's driver (started by scripts/bench, which builds first).
 
 Generates the cases of docs/benchmarks.md with `lodestone generate`, measures the
-anchors (STREAM-style triad at 1 and all cores; `dd` with fsync), runs every
+anchors (STREAM-style triad at 1 and all cores; `dd` with fsync; on the Laplacians
+the filter's kernel and the triad in turn on one core, bench_paired), runs every
 contender in turn (Lodestone's methods at 1 and 2 ranks, SciPy eigsh/eigs,
 LAPACKE dsyevr), takes the median of --repeat runs, prints one table with the
 targets as PASS/MISS and writes table.csv, results.json and the raw logs under
@@ -413,6 +414,22 @@ def triad_at(b, threads, tiny):
     return json.loads(so)["best_gbs"] if rc == 0 else None
 
 
+def paired_kernel(b, case, work, tiny):
+    """The filter's step on 12 columns and the 1-core triad in turn on the case's grid
+    (bench_paired): the kernel's fraction of the triad read in the same seconds, beside
+    the product-phase verdicts, which do not use it. None if it failed."""
+    args = case["gen"] + ["--dir", work] + (["--rounds", "3", "--slice", "0.02", "--mib", "16"] if tiny else [])
+    # The C heap on huge pages for both kernels alike, as the lodestone launcher has it.
+    env = dict(os.environ, OMP_NUM_THREADS="1", GLIBC_TUNABLES="glibc.malloc.hugetlb=1")
+    rc, _, so, se = timed([b["paired"]] + args, env=env)
+    return json.loads(so) if rc == 0 else None
+
+
+def paired_text(pk):
+    return (f"the kernel alone in turn with the triad: {100 * pk['paired_median']:.0f}% (median of "
+            f"{pk['rounds']} pairs, {100 * pk['paired_min']:.0f}-{100 * pk['paired_max']:.0f}%)")
+
+
 def triad_anchor(b, cores, tiny):
     return {t: v for t in sorted({1, cores}) if (v := triad_at(b, t, tiny))}
 
@@ -495,8 +512,9 @@ def main():
     bdir = os.path.join(build, "tests", "benchmark")
     b = dict(lodestone=a.lodestone or os.path.join(build, "src", "lodestone"),
              triad=os.path.join(bdir, "bench_triad"), dense_reference=os.path.join(bdir, "bench_dense_reference"),
-             checkpoint=os.path.join(bdir, "bench_checkpoint"), micro=os.path.join(bdir, "bench_micro"))
-    for k in ("lodestone", "triad", "dense_reference", "checkpoint"):
+             checkpoint=os.path.join(bdir, "bench_checkpoint"), paired=os.path.join(bdir, "bench_paired"),
+             micro=os.path.join(bdir, "bench_micro"))
+    for k in ("lodestone", "triad", "dense_reference", "checkpoint", "paired"):
         if not os.access(b[k], os.X_OK):
             sys.exit(f"bench: {b[k]} is missing; build first (scripts/bench builds unless given --build)")
     stamp = datetime.datetime.now(datetime.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
@@ -521,7 +539,7 @@ def main():
     sys.stdout.flush()
 
     all_cases = cases(a.tiny)
-    rows, targets, checkpoints = [], [], []
+    rows, targets, checkpoints, paired = [], [], [], {}
     scipy_seconds_a = None
     for cid in a.cases.split(","):
         case = dict(all_cases[cid], id=cid)
@@ -626,6 +644,8 @@ def main():
             else:
                 targets.append(dict(target="(c) auto P=2 vs eigs", measured="not measured", verdict="n/a"))
         if case["kind"] == "laplace2d":
+            pk = paired[cid] = paired_kernel(b, case, work, a.tiny)
+            print(f"  {paired_text(pk)}" if pk else "  bench_paired failed")
             for p in ranks_list:
                 r = find("lodestone auto", p)
                 f = r.get("product_of_triad") if r else None
@@ -633,7 +653,8 @@ def main():
                                     measured=(f"{100 * f:.0f}% ({r['product_gbs']:.1f} GB/s against the triad's "
                                               f"{r['triad_gbs']:.1f}, the highest of {r['triad_readings']}; "
                                               f"{100 * r['product_of_lowest_triad']:.0f}% against the lowest"
-                                              f"{rank_spread_text(r, '; ')})"
+                                              f"{rank_spread_text(r, '; ')}"
+                                              f"{'; ' + paired_text(pk) if pk and p == 1 else ''})"
                                               if f else "not measured"),
                                     verdict=("PASS" if f >= 0.8 else "MISS") if f else "n/a"))
         worst = None
@@ -693,7 +714,7 @@ def main():
         for r in rows:
             w.writerow({k: r.get(k, "") for k in keys})
     with open(os.path.join(out, "results.json"), "w") as f:
-        json.dump(dict(machine=info, triad_gbs=triad, rows=rows, checkpoints=checkpoints, targets=targets,
+        json.dump(dict(machine=info, triad_gbs=triad, rows=rows, checkpoints=checkpoints, paired_kernel=paired, targets=targets,
                        micro_json=micro), f, indent=1, default=str)
     print(f"written: {out}/table.csv, {out}/results.json")
     # The generated matrices are large; keep only logs and results.

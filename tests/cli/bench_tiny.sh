@@ -2,9 +2,9 @@
 # The benchmark suite runs end to end on tiny cases against the already-built
 # binary (scripts/bench --tiny --build): the table, table.csv and results.json
 # hold one row per case and contender, the targets are reported, the checkpoint
-# probe measured something, and the suite's own references agree with what
-# Lodestone found on the Laplacian (closed form) and the dense case (prescribed
-# spectrum). No timing is asserted.
+# probe measured something, the kernel/triad pairs add up, and the suite's own
+# references agree with what Lodestone found on the Laplacian (closed form) and
+# the dense case (prescribed spectrum). No timing is asserted.
 set -euo pipefail
 tmp="$(mktemp -d)"
 trap 'rm -rf "$tmp"' EXIT
@@ -21,6 +21,8 @@ grep -q "^triad: 1 core" "$tmp/table.txt" || fail "no triad anchor"
 grep -q "^targets (issue 6):" "$tmp/table.txt" || fail "no targets section"
 grep -Eq "^  (PASS|MISS) +\(a\) auto P=2" "$tmp/table.txt" || fail "no verdict for the case (a) target"
 grep -q "checkpoint (issue 4)" "$tmp/table.txt" || fail "no checkpoint section"
+grep -Eq "^  (PASS|MISS) +\(a\) product phase .*P=1: .*the kernel alone in turn with the triad: [0-9]+% \(median of 3 pairs" \
+  "$tmp/table.txt" || fail "no paired kernel/triad figure beside the 1-rank product verdict"
 
 /usr/bin/python3 - "$tmp/out" <<'PY' || fail "CSV/JSON content"
 import csv, json, sys
@@ -69,6 +71,16 @@ for r in rows:
         assert 1.0 <= float(r["product_rank_spread"]) < 100, ("rank spread", r)
 walk = have("c", "lodestone auto", 2)[0]
 assert walk["matvecs"] and (walk["converged"] == "4/4" or "did not converge" in walk["note"]), walk
+# The filter's kernel and the triad in turn (bench_paired) on each Laplacian: every kernel slice
+# is set against the mean of the triad slices on either side of it.
+for case in "ab":
+    pk = doc["paired_kernel"][case]
+    k, t = pk["kernel_gbs"], pk["triad_gbs"]
+    assert pk["rounds"] == len(k) == 3 and len(t) == 4 and min(k + t) > 0, pk
+    ratios = sorted(k[i] / (0.5 * (t[i] + t[i + 1])) for i in range(3))
+    assert abs(pk["paired_median"] / ratios[1] - 1) < 1e-3, (ratios, pk)
+    assert abs(pk["paired_min"] / ratios[0] - 1) < 1e-3 and abs(pk["paired_max"] / ratios[2] - 1) < 1e-3, pk
+    assert abs(pk["triad_best_gbs"] - max(t)) < 1e-3 and abs(pk["kernel_best_gbs"] - max(k)) < 1e-3, pk
 assert doc["triad_gbs"], "no triad figure"
 assert any(t["verdict"] in ("PASS", "MISS") for t in doc["targets"])
 ck = doc["checkpoints"]
