@@ -27,26 +27,17 @@ int main(int argc, char** argv) {
     if (!std::strcmp(argv[i], "--mib")) mib = std::atof(argv[i + 1]);
     else if (!std::strcmp(argv[i], "--repeat")) repeat = std::atoi(argv[i + 1]);
   }
-  const long n = static_cast<long>(mib * 1024 * 1024 / 8);
-  double* a = static_cast<double*>(std::aligned_alloc(64, static_cast<size_t>(n) * 8 + 64));
-  double* b = static_cast<double*>(std::aligned_alloc(64, static_cast<size_t>(n) * 8 + 64));
-  double* c = static_cast<double*>(std::aligned_alloc(64, static_cast<size_t>(n) * 8 + 64));
-  // First touch by the same threads that run the kernel.
-#pragma omp parallel for schedule(static)
-  for (long i = 0; i < n; ++i) { a[i] = 0.0; b[i] = 1.0; c[i] = 2.0; }
-  const double s = 3.0;
+  lodestone::bench::TriadArrays arrays(static_cast<long>(mib * 1024 * 1024 / 8));
   std::vector<double> rates;
   for (int r = 0; r < repeat; ++r) {
     const auto t0 = std::chrono::steady_clock::now();
-    lodestone::bench::triad_pass(a, b, c, s, n);
+    arrays.pass(3.0);
     const double t = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
-    rates.push_back(lodestone::bench::kTriadBytesPerElement * static_cast<double>(n) / t / 1e9);
+    rates.push_back(arrays.bytes_per_pass() / t / 1e9);
   }
-  double check = 0;
-  for (long i = 0; i < n; i += 4096) check += a[i];
+  const double check = arrays.check();
   std::sort(rates.begin(), rates.end());
   std::printf("{\"threads\": %d, \"array_bytes\": %ld, \"best_gbs\": %.4f, \"median_gbs\": %.4f, \"check\": %.1f}\n",
-              omp_get_max_threads(), n * 8, rates.back(), rates[rates.size() / 2], check);
-  std::free(a); std::free(b); std::free(c);
+              omp_get_max_threads(), arrays.elements() * 8, rates.back(), rates[rates.size() / 2], check);
   return check > 0 ? 0 : 1;
 }
