@@ -714,8 +714,8 @@ def main():
         for r in rows:
             w.writerow({k: r.get(k, "") for k in keys})
     with open(os.path.join(out, "results.json"), "w") as f:
-        json.dump(dict(machine=info, triad_gbs=triad, rows=rows, checkpoints=checkpoints, paired_kernel=paired, targets=targets,
-                       micro_json=micro), f, indent=1, default=str)
+        json.dump(dict(machine=info, triad_gbs=triad, rows=rows, checkpoints=checkpoints, paired_kernel=paired,
+                       targets=targets, micro_json=micro), f, indent=1, default=str)
     print(f"written: {out}/table.csv, {out}/results.json")
     # The generated matrices are large; keep only logs and results.
     for name in os.listdir(work):

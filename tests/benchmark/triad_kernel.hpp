@@ -45,7 +45,11 @@ class TriadArrays {
   long elements() const { return n_; }
 
  private:
-  static double* alloc(long n) { return static_cast<double*>(std::aligned_alloc(64, static_cast<std::size_t>(n) * 8 + 64)); }
+  // aligned_alloc wants a size that is a multiple of the alignment.
+  static double* alloc(long n) {
+    const std::size_t bytes = (static_cast<std::size_t>(n) * 8 + 63) / 64 * 64;
+    return static_cast<double*>(std::aligned_alloc(64, bytes > 0 ? bytes : 64));
+  }
   long n_;
   double *a_, *b_, *c_;
 };
