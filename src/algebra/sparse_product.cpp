@@ -197,12 +197,13 @@ template <typename T, bool ReadY>
   __builtin_memcpy(yi, &r, sizeof r);
 }
 
+// Rows lo .. hi - 1.
 template <typename V, typename H, int W, bool ReadY>
 [[gnu::always_inline]] inline void chunk_rows(const Rows& d, const Rows& o, const double* x, const double* g,
-                                              double* y, PetscInt cols, double alpha, double shift, double beta) {
+                                              double* y, PetscInt cols, PetscInt lo, PetscInt hi, double alpha,
+                                              double shift, double beta) {
   using S = Split<V, H, W>;
-  const PetscInt m = d.count;
-  for (PetscInt i = 0; i < m; ++i) {
+  for (PetscInt i = lo; i < hi; ++i) {
     V acc[S::NV + S::OV > 0 ? S::NV + S::OV : 1] = {};
     H hacc[S::NH > 0 ? S::NH : 1] = {};
     double tail[S::NT > 0 ? S::NT : 1] = {};
@@ -226,25 +227,25 @@ template <typename V, typename H, int W, bool ReadY>
 
 using Vec2 = double __attribute__((vector_size(16)));
 
-#define LODESTONE_CHUNK_CASES(V, H)                                                       \
-  switch (w) {                                                                            \
-    case 1: return chunk_rows<V, H, 1, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 2: return chunk_rows<V, H, 2, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 3: return chunk_rows<V, H, 3, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 4: return chunk_rows<V, H, 4, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 5: return chunk_rows<V, H, 5, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 6: return chunk_rows<V, H, 6, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 7: return chunk_rows<V, H, 7, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 8: return chunk_rows<V, H, 8, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 9: return chunk_rows<V, H, 9, ReadY>(d, o, x, g, y, cols, alpha, shift, beta);   \
-    case 10: return chunk_rows<V, H, 10, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
-    case 11: return chunk_rows<V, H, 11, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
-    default: return chunk_rows<V, H, 12, ReadY>(d, o, x, g, y, cols, alpha, shift, beta); \
+#define LODESTONE_CHUNK_CASES(V, H)                                                               \
+  switch (w) {                                                                                    \
+    case 1: return chunk_rows<V, H, 1, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 2: return chunk_rows<V, H, 2, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 3: return chunk_rows<V, H, 3, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 4: return chunk_rows<V, H, 4, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 5: return chunk_rows<V, H, 5, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 6: return chunk_rows<V, H, 6, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 7: return chunk_rows<V, H, 7, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 8: return chunk_rows<V, H, 8, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 9: return chunk_rows<V, H, 9, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta);   \
+    case 10: return chunk_rows<V, H, 10, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta); \
+    case 11: return chunk_rows<V, H, 11, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta); \
+    default: return chunk_rows<V, H, 12, ReadY>(d, o, x, g, y, cols, lo, hi, alpha, shift, beta); \
   }
 
 template <bool ReadY>
 void rows_sse2(int w, const Rows& d, const Rows& o, const double* x, const double* g, double* y, PetscInt cols,
-               double alpha, double shift, double beta) {
+               PetscInt lo, PetscInt hi, double alpha, double shift, double beta) {
   LODESTONE_CHUNK_CASES(Vec2, Vec2)
 }
 
@@ -253,7 +254,8 @@ void rows_sse2(int w, const Rows& d, const Rows& o, const double* x, const doubl
 using Vec4 = double __attribute__((vector_size(32)));
 template <bool ReadY>
 __attribute__((target("avx2"))) void rows_avx2(int w, const Rows& d, const Rows& o, const double* x, const double* g,
-                                               double* y, PetscInt cols, double alpha, double shift, double beta) {
+                                               double* y, PetscInt cols, PetscInt lo, PetscInt hi, double alpha,
+                                               double shift, double beta) {
   LODESTONE_CHUNK_CASES(Vec4, Vec2)
 }
 // And with each product and sum fused into one instruction (the compiler contracts
@@ -263,8 +265,8 @@ __attribute__((target("avx2"))) void rows_avx2(int w, const Rows& d, const Rows&
 constexpr int kFusedFrom = 6;
 template <bool ReadY>
 __attribute__((target("avx2,fma"))) void rows_avx2_fma(int w, const Rows& d, const Rows& o, const double* x,
-                                                       const double* g, double* y, PetscInt cols, double alpha,
-                                                       double shift, double beta) {
+                                                       const double* g, double* y, PetscInt cols, PetscInt lo,
+                                                       PetscInt hi, double alpha, double shift, double beta) {
   LODESTONE_CHUNK_CASES(Vec4, Vec2)
 }
 bool have_avx2() {
@@ -280,12 +282,13 @@ bool have_fma() {
 
 template <bool ReadY>
 void run_chunk_rows(int w, const Rows& d, const Rows& o, const double* x, const double* g, double* y, PetscInt cols,
-                    double alpha, double shift, double beta) {
+                    PetscInt lo, PetscInt hi, double alpha, double shift, double beta) {
 #if defined(__x86_64__) && defined(__GNUC__)
-  if (have_avx2() && have_fma() && w >= kFusedFrom) return rows_avx2_fma<ReadY>(w, d, o, x, g, y, cols, alpha, shift, beta);
-  if (have_avx2()) return rows_avx2<ReadY>(w, d, o, x, g, y, cols, alpha, shift, beta);
+  if (have_avx2() && have_fma() && w >= kFusedFrom)
+    return rows_avx2_fma<ReadY>(w, d, o, x, g, y, cols, lo, hi, alpha, shift, beta);
+  if (have_avx2()) return rows_avx2<ReadY>(w, d, o, x, g, y, cols, lo, hi, alpha, shift, beta);
 #endif
-  rows_sse2<ReadY>(w, d, o, x, g, y, cols, alpha, shift, beta);
+  rows_sse2<ReadY>(w, d, o, x, g, y, cols, lo, hi, alpha, shift, beta);
 }
 
 constexpr int kChunk = 12;  // columns per pass over the matrix at most: their sums stay in registers
@@ -329,8 +332,8 @@ bool SparseProduct::handles(Mat a) {
   return seq == PETSC_TRUE || mpi == PETSC_TRUE;
 }
 
-Status SparseProduct::exchange(Mat a, int cols, bool interlaced, const double* x, PetscInt rows, PetscInt ghosts,
-                               const PetscInt* garray) {
+Status SparseProduct::start_exchange(Mat a, int cols, bool interlaced, const double* x, PetscInt rows,
+                                     PetscInt ghosts, const PetscInt* garray) {
   if (!sf_) {
     // Leaves: this rank's ghost columns; roots: the rows that own them (A's column layout).
     PetscLayout layout = nullptr;
@@ -351,7 +354,7 @@ Status SparseProduct::exchange(Mat a, int cols, bool interlaced, const double* x
       found = row_types_.emplace(cols, t).first;
     }
     LODESTONE_PETSC(PetscSFBcastBegin(sf_, found->second, x, g, MPI_REPLACE));
-    LODESTONE_PETSC(PetscSFBcastEnd(sf_, found->second, x, g, MPI_REPLACE));
+    pending_ = Pending{found->second, x, g};
   } else {
     for (int j = 0; j < cols; ++j) {
       const double* xj = x + static_cast<std::ptrdiff_t>(j) * rows;
@@ -361,6 +364,33 @@ Status SparseProduct::exchange(Mat a, int cols, bool interlaced, const double* x
     }
   }
   return Status::ok();
+}
+
+Status SparseProduct::finish_exchange() {
+  if (pending_.root == nullptr) return Status::ok();
+  const Pending p = pending_;
+  pending_ = Pending{};
+  LODESTONE_PETSC(PetscSFBcastEnd(sf_, p.unit, p.root, p.leaf, MPI_REPLACE));
+  return Status::ok();
+}
+
+bool SparseProduct::split_rows(const PetscInt* off_start, PetscInt m) {
+  if (overlap_ < 0) {
+    // Runs of consecutive rows with and without entries in ghost columns.
+    runs_.clear();
+    PetscInt free_rows = 0;
+    for (PetscInt i = 0; i < m; ++i) {
+      const bool ghosts = off_start != nullptr && off_start[i + 1] > off_start[i];
+      free_rows += ghosts ? 0 : 1;
+      if (runs_.empty() || runs_.back().ghosts != ghosts) runs_.push_back(RowRun{i, i, ghosts});
+      runs_.back().end = i + 1;
+    }
+    // Worth it when most rows need no ghost values and the runs are long (a stencil or
+    // band split into row blocks: one or two runs with ghost entries per rank); a
+    // scattered pattern, whose rows nearly all have ghost entries, keeps the plain order.
+    overlap_ = 2 * free_rows >= m && runs_.size() <= static_cast<std::size_t>(std::max<PetscInt>(3, m / 64)) ? 1 : 0;
+  }
+  return overlap_ == 1;
 }
 
 Status SparseProduct::product(Mat a, int cols, bool interlaced, const double* x, double* y, double alpha, double shift,
@@ -377,11 +407,12 @@ Status SparseProduct::product(Mat a, int cols, bool interlaced, const double* x,
   LODESTONE_TRY(scattered(a).status());
   const PetscLogEvent event = sparse_product_event(beta != 0.0);
   LODESTONE_PETSC(PetscLogEventBegin(event, a, 0, 0, 0));
-  // The ghost values of every column (every rank takes part, ghosts or not).
+  // The ghost values of every column (every rank takes part, ghosts or not): by columns
+  // all exchanged here; interlaced, started here and finished below.
   if (mpi) {
     PetscInt rows = 0;
     LODESTONE_PETSC(MatGetLocalSize(a, &rows, nullptr));
-    LODESTONE_TRY(exchange(a, cols, interlaced, x, rows, ghosts, garray));
+    LODESTONE_TRY(start_exchange(a, cols, interlaced, x, rows, ghosts, garray));
   }
   Rows d, o;
   LODESTONE_PETSC(get_rows(diag, d));
@@ -393,22 +424,40 @@ Status SparseProduct::product(Mat a, int cols, bool interlaced, const double* x,
   // of X prefetched): wider chunks without prefetching wait on every entry's loads.
   const int chunk = (scattered_ == 1 && !interlaced) ? 2 : kChunk;
   const int passes = m > 0 ? (cols + chunk - 1) / chunk : 0;
-  for (int pass = 0, c0 = 0; pass < passes; ++pass) {
-    const int w = (cols - c0) / (passes - pass);
-    if (interlaced) {
+  // Interlaced, rows lo .. hi - 1, their ghost entries from `off` (or none).
+  const auto rows_of = [&](PetscInt lo, PetscInt hi, const Rows& off_rows) {
+    for (int pass = 0, c0 = 0; pass < passes; ++pass) {
+      const int w = (cols - c0) / (passes - pass);
       if (beta != 0.0)
-        run_chunk_rows<true>(w, d, o, x + c0, g ? g + c0 : g, y + c0, cols, alpha, shift, beta);
+        run_chunk_rows<true>(w, d, off_rows, x + c0, g ? g + c0 : g, y + c0, cols, lo, hi, alpha, shift, beta);
       else
-        run_chunk_rows<false>(w, d, o, x + c0, g ? g + c0 : g, y + c0, cols, alpha, shift, beta);
-    } else {
+        run_chunk_rows<false>(w, d, off_rows, x + c0, g ? g + c0 : g, y + c0, cols, lo, hi, alpha, shift, beta);
+      c0 += w;
+    }
+  };
+  overlapped_ = interlaced && mpi && split_rows(o.start, m);
+  if (overlapped_) {
+    // The rows that need no ghost values while those values travel, then the rest: a
+    // rank that is ahead works instead of waiting for its neighbour to send.
+    for (const RowRun& r : runs_)
+      if (!r.ghosts) rows_of(r.begin, r.end, Rows{});
+    LODESTONE_TRY(finish_exchange());
+    for (const RowRun& r : runs_)
+      if (r.ghosts) rows_of(r.begin, r.end, o);
+  } else if (interlaced) {
+    LODESTONE_TRY(finish_exchange());
+    rows_of(0, m, o);
+  } else {
+    for (int pass = 0, c0 = 0; pass < passes; ++pass) {
+      const int w = (cols - c0) / (passes - pass);
       const std::size_t at = static_cast<std::size_t>(c0) * static_cast<std::size_t>(m);
       const double* gc = g ? g + static_cast<std::size_t>(c0) * static_cast<std::size_t>(ghosts) : g;
       if (beta != 0.0)
         run_chunk<true>(w, scattered_ == 1, d, o, x + at, m, gc, ghosts, y + at, m, alpha, shift, beta);
       else
         run_chunk<false>(w, scattered_ == 1, d, o, x + at, m, gc, ghosts, y + at, m, alpha, shift, beta);
+      c0 += w;
     }
-    c0 += w;
   }
   const PetscInt nnz = d.start[d.count] + (o.start != nullptr ? o.start[o.count] : 0);
   if (o.start != nullptr) LODESTONE_PETSC(restore_rows(off, o));

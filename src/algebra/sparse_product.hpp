@@ -9,7 +9,9 @@
 // On more than one rank the values of X that the local rows need from other
 // ranks (the ghost values, the off-diagonal part's columns) arrive through one
 // PETSc star forest set up once: interlaced, a row's values of all columns travel
-// as one unit in one exchange; by columns, one exchange per column.
+// as one unit in one exchange, and while they travel the rows that need none of
+// them are multiplied (where such rows are most of the local rows, in long runs);
+// by columns, one exchange per column, before the product.
 #pragma once
 
 #include <petscmat.h>
@@ -44,6 +46,10 @@ class SparseProduct {
   Status apply_rows(Mat a, int cols, const double* x, double* y, double alpha, double shift, double beta);
   // Collective. y = A x for one column given by its local values (x and y distinct).
   Status apply_column(Mat a, const double* x, double* y);
+  // Whether the last product multiplied this rank's rows without ghost entries while
+  // the ghost values were exchanged (interlaced, on more than one rank, a pattern
+  // whose rows mostly have no ghost entries). For tests.
+  bool overlapped() const { return overlapped_; }
 
   // Collective on first use, then remembered. True when A's pattern is scattered:
   // fewer than half of a sample of stored entries continue a column of the row before
@@ -55,15 +61,34 @@ class SparseProduct {
 
  private:
   // The ghost values of X's columns into ghost_values_: interlaced, ghost g's row at
-  // g * cols; by columns, column j at j * ghosts.
-  Status exchange(Mat a, int cols, bool interlaced, const double* x, PetscInt rows, PetscInt ghosts,
-                  const PetscInt* garray);
+  // g * cols, started here and completed by finish_exchange(); by columns, column j at
+  // j * ghosts, complete on return.
+  Status start_exchange(Mat a, int cols, bool interlaced, const double* x, PetscInt rows, PetscInt ghosts,
+                        const PetscInt* garray);
+  Status finish_exchange();
+  // Once per matrix: this rank's rows split into runs with and without ghost entries
+  // (runs_); true if multiplying the rows without them during the exchange pays.
+  bool split_rows(const PetscInt* off_start, PetscInt m);  // off_start: the off-diagonal part's row offsets, or null
   Status product(Mat a, int cols, bool interlaced, const double* x, double* y, double alpha, double shift, double beta);
+
+  struct Pending {  // an interlaced exchange started and not yet finished
+    MPI_Datatype unit = MPI_DATATYPE_NULL;
+    const double* root = nullptr;
+    double* leaf = nullptr;
+  };
+  struct RowRun {
+    PetscInt begin, end;  // rows begin .. end - 1
+    bool ghosts;          // every row of the run has ghost entries, or none has
+  };
 
   PetscSF sf_ = nullptr;                        // ghost columns <- their owning rows, set up once
   std::map<int, MPI_Datatype> row_types_;       // `cols` contiguous doubles, one per width used
   std::vector<double> ghost_values_;
   int scattered_ = -1;                          // -1 not yet known, else 0 or 1
+  Pending pending_;
+  std::vector<RowRun> runs_;
+  int overlap_ = -1;                            // -1 not yet known, else 0 or 1 (split_rows)
+  bool overlapped_ = false;
 };
 
 // This rank's rows of X interlaced into `rows` (local rows x cols values), and back.
