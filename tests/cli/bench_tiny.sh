@@ -2,7 +2,8 @@
 # The benchmark suite runs end to end on tiny cases against the already-built
 # binary (scripts/bench --tiny --build): the table, table.csv and results.json
 # hold one row per case and contender, the targets are reported, the checkpoint
-# probe measured something, the kernel/triad pairs add up, and the suite's own
+# probe measured something, the kernel/triad pairs and the solve's segments (which
+# the product-phase verdicts come from) add up, and the suite's own
 # references agree with what Lodestone found on the Laplacian (closed form) and
 # the dense case (prescribed spectrum). No timing is asserted.
 set -euo pipefail
@@ -23,6 +24,9 @@ grep -Eq "^  (PASS|MISS) +\(a\) auto P=2" "$tmp/table.txt" || fail "no verdict f
 grep -q "checkpoint (issue 4)" "$tmp/table.txt" || fail "no checkpoint section"
 grep -Eq "^  (PASS|MISS) +\(a\) product phase .*P=1: .*the kernel alone in turn with the triad: [0-9]+% \(median of 3 pairs" \
   "$tmp/table.txt" || fail "no paired kernel/triad figure beside the 1-rank product verdict"
+
+grep -Eq "^  (PASS|MISS) +\(b\) product phase .*P=2: [0-9]+% of the triad read between its segments \(median of [0-9]+ segment" \
+  "$tmp/table.txt" || fail "no verdict from the solve in segments"
 
 /usr/bin/python3 - "$tmp/out" <<'PY' || fail "CSV/JSON content"
 import csv, json, sys
@@ -81,6 +85,25 @@ for case in "ab":
     assert abs(pk["paired_median"] / ratios[1] - 1) < 1e-3, (ratios, pk)
     assert abs(pk["paired_min"] / ratios[0] - 1) < 1e-3 and abs(pk["paired_max"] / ratios[2] - 1) < 1e-3, pk
     assert abs(pk["triad_best_gbs"] - max(t)) < 1e-3 and abs(pk["kernel_best_gbs"] - max(k)) < 1e-3, pk
+# The product-phase verdicts come from the `auto` solve run again in segments, resumed from its
+# checkpoint: each segment against the mean of the triad readings on either side of it (one
+# reading before the first segment, one after each), the verdict on their median.
+for case in "ab":
+    for p in (1, 2):
+        sg = doc["segmented"][f"{case}/{p}"]
+        segs = sg["segments"]
+        assert segs and sum(s["matvecs"] for s in segs) == sg["matvecs"] > 0, sg
+        for prev, s in zip(segs, segs[1:]):
+            assert s["triad_before"] == prev["triad_after"], ("readings not shared between segments", segs)
+        fractions = sorted(s["gbs"] / (0.5 * (s["triad_before"] + s["triad_after"])) for s in segs if "of_triad" in s)
+        assert len(fractions) == sg["counted"] > 0, sg
+        mid = len(fractions) // 2
+        median = fractions[mid] if len(fractions) % 2 else 0.5 * (fractions[mid - 1] + fractions[mid])
+        assert abs(sg["median"] / median - 1) < 1e-9 and sg["min"] == fractions[0] and sg["max"] == fractions[-1], sg
+        # The segments' solve, resumed however often, ends at the closed-form eigenvalues.
+        assert sg["max_eig_error"] < 1e-6, sg
+        verdict = [t for t in doc["targets"] if t["target"] == f"({case}) product phase >= 80% of triad, P={p}"]
+        assert len(verdict) == 1 and verdict[0]["verdict"] == ("PASS" if sg["median"] >= 0.8 else "MISS"), verdict
 assert doc["triad_gbs"], "no triad figure"
 assert any(t["verdict"] in ("PASS", "MISS") for t in doc["targets"])
 ck = doc["checkpoints"]
