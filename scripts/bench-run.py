@@ -227,6 +227,15 @@ def auto_method(symmetric):
     return "chebyshev" if symmetric else "krylov"
 
 
+def solve_command(b, case, path, method, ranks, cap, out, log, prefix=(), extra=()):
+    """`lodestone solve` of the case under mpirun, with -log_view into `log`; `prefix` goes
+    between mpirun and the program (a per-rank wrapper), `extra` after the solve's options."""
+    return (["timeout", str(RUN_TIMEOUT + 30)] + MPIRUN + ["-n", str(ranks)] + list(prefix) +
+            [b["lodestone"], "solve", path, "--pairs", str(case["pairs"]), "--select", case["select"],
+             "--method", method, "--tol", str(case["tol"]), "--max-matvecs", str(cap), "--quiet",
+             "--out", out] + list(extra) + ["--petsc", "-log_view", f":{log}"])
+
+
 def run_lodestone(b, case, path, method, ranks, work, repeat, info):
     tag = os.path.join(work, f"{case['id']}-{method}-np{ranks}")
     # Power and block cannot converge on the clustered cases: a small cap; the filtered methods a large one
@@ -240,10 +249,7 @@ def run_lodestone(b, case, path, method, ranks, work, repeat, info):
         for f in (out,):
             if os.path.exists(f):
                 os.remove(f)
-        cmd = (["timeout", str(RUN_TIMEOUT + 30)] + MPIRUN + ["-n", str(ranks)] + rss_prefix(tag) +
-               [b["lodestone"], "solve", path, "--pairs", str(case["pairs"]), "--select", case["select"],
-                "--method", method, "--tol", str(case["tol"]), "--max-matvecs", str(cap), "--quiet",
-                "--out", out, "--petsc", "-log_view", f":{log}"])
+        cmd = solve_command(b, case, path, method, ranks, cap, out, log, prefix=rss_prefix(tag))
         rc, wall, so, se = timed(cmd, RUN_TIMEOUT + 60)
         if rc is None or rc == 124:
             note = f"stopped after {RUN_TIMEOUT} s"
@@ -447,10 +453,9 @@ def segmented_solve(b, case, path, ranks, cores, work, tiny, info, ref):
     segments, done, matvecs, stalled = [], False, 0, 0
     while not done and len(segments) < 60:
         log = f"{tag}.log_view.{len(segments)}.txt"
-        cmd = (["timeout", str(RUN_TIMEOUT + 30)] + MPIRUN + ["-n", str(ranks), b["lodestone"], "solve", path,
-               "--pairs", str(case["pairs"]), "--select", case["select"], "--method", "auto", "--tol", str(case["tol"]),
-               "--max-matvecs", str(case["cap_filter"]), "--quiet", "--out", out, "--checkpoint", ck, "--resume",
-               "--time-budget", SEGMENT_BUDGET, "--checkpoint-every", "10h", "--petsc", "-log_view", f":{log}"])
+        cmd = solve_command(b, case, path, "auto", ranks, case["cap_filter"], out, log,
+                            extra=["--checkpoint", ck, "--resume", "--time-budget", SEGMENT_BUDGET,
+                                   "--checkpoint-every", "10h"])
         rc, wall, so, se = timed(cmd, RUN_TIMEOUT + 60)
         if rc == 3:
             m = re.search(r"after \d+ iterations and (\d+) matvecs", se)
