@@ -6,7 +6,8 @@
 // plain power step. The interval's outer end comes from a short Lanczos run; its
 // inner end (the cut) is the least wanted Ritz value of the block, refined at
 // every Rayleigh-Ritz step. The degree is chosen from the observed residual and
-// the Ritz values so a cycle aims at the tolerance without overshooting.
+// the Ritz values so a cycle aims at the tolerance without overshooting, and is
+// held down where an eigenvalue far out from the rest would swamp the block.
 //
 // Three-term recurrence, scaled by T_k at the point gamma (the far end of the
 // wanted side) so nothing overflows: with t(A) = (A - e I) / h, x0 = t(gamma),
@@ -29,6 +30,9 @@ constexpr int kLanczosSteps = 24;
 constexpr int kMinDegree = 4;
 constexpr int kMaxDegree = 400;
 constexpr int kStartDegree = 10;
+// How much more the filter may grow the far end of the spectrum than the least wanted
+// pair still needed (choose_degree).
+constexpr double kMaxGrowth = 1e8;
 
 class ChebyshevMethod final : public SubspaceMethod {
  public:
@@ -95,7 +99,14 @@ class ChebyshevMethod final : public SubspaceMethod {
     const double need = std::log(std::max(2.0, ritz_res_[j] / (0.5 * threshold())));
     double m = std::ceil(need / rate);
     m = std::min<double>(m, 2.0 * degree_ + 4);
-    return static_cast<int>(std::clamp<double>(m, kMinDegree, kMaxDegree));
+    // The filter grows the far end of the spectrum most. Where an eigenvalue there
+    // stands far out (a locked one, or one still in the block), its share of every
+    // column - rounding-level once it is locked - must not grow past kMaxGrowth times
+    // the pair's own, or projecting it out leaves noise where the pair should be.
+    const double far = std::max(std::fabs((bounds_.lower - e) / h), std::fabs((bounds_.upper - e) / h));
+    const double excess = std::acosh(std::max(far, 1.0)) - rate;
+    const double cap = excess > 0 ? std::max(1.0, std::floor(std::log(kMaxGrowth) / excess)) : kMaxDegree;
+    return static_cast<int>(std::clamp<double>(std::min(m, cap), std::min<double>(kMinDegree, cap), kMaxDegree));
   }
 
   // f1_ holds the second recurrence block; z_ = A Y_k only where the product and
