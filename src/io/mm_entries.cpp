@@ -59,8 +59,13 @@ std::int64_t bounded_round(MPI_Comm comm, std::int64_t wanted) {
 }
 
 CsrRows assemble_rows(RowRange range, std::vector<mm::Entry>& entries) {
+  // Entries arrive in an order set by the rank count and the exchange rounds; ties
+  // broken by value make the order in which duplicates are summed (and so the sum's
+  // last bits) depend on the entries alone. Values are never NaN (the parser refuses it).
   std::sort(entries.begin(), entries.end(), [](const mm::Entry& a, const mm::Entry& b) {
-    return a.row != b.row ? a.row < b.row : a.col < b.col;
+    if (a.row != b.row) return a.row < b.row;
+    if (a.col != b.col) return a.col < b.col;
+    return a.value < b.value;
   });
   CsrRows out;
   out.row_begin = range.begin;

@@ -3,6 +3,7 @@
 // reported with the right line number on every rank.
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <filesystem>
 #include <fstream>
 #include <string>
@@ -126,6 +127,28 @@ TEST(MmImport, DuplicatesAreSummed) {
   expect_rows(m->rows, {{3, 4}, {0, 0}});
   // (2,2) sums to an exact zero and stays stored: the file named that position.
   EXPECT_EQ(sum_all(comm, m->rows.offsets.back()), 3);
+}
+
+TEST(MmImport, DuplicatesSumTheSameInAnyOrder) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  // 1e16 + 1 rounds back to 1e16 (the doubles there are 2 apart), so the three entries
+  // sum to 0 or 1 by the order they are added in. The order must not come from the
+  // file, the rank count or the exchange rounds: every order gives the same bits.
+  std::vector<std::string> lines = {"1 1 1e16\n", "1 1 1\n", "1 1 -1e16\n"};
+  std::vector<int> order = {0, 1, 2};
+  std::vector<double> sums;
+  do {
+    std::string text = "%%MatrixMarket matrix coordinate real general\n1 1 3\n";
+    for (int k : order) text += lines[static_cast<std::size_t>(k)];
+    for (const auto& o : {tiny(), io::ImportOptions{}}) {
+      auto m = read_text(comm, "dup-order.mtx", text, o);
+      ASSERT_TRUE(m.is_ok()) << m.status().message();
+      double mine = m->rows.local_rows() > 0 ? m->rows.values.at(0) : 0.0, sum = 0;
+      MPI_Allreduce(&mine, &sum, 1, MPI_DOUBLE, MPI_SUM, comm);
+      sums.push_back(sum);
+    }
+  } while (std::next_permutation(order.begin(), order.end()));
+  for (double v : sums) EXPECT_EQ(v, sums.front());
 }
 
 TEST(MmImport, ArrayFormats) {
