@@ -11,7 +11,7 @@ namespace lodestone::plan {
 Status apply_calibration(const std::string& path, const std::string& text, MachineModel& model) {
   nlohmann::json j = nlohmann::json::parse(text, nullptr, false);
   if (j.is_discarded() || !j.is_object()) return Status::input(fmt::format("{}: not a JSON object", path));
-  if (j.value("format", std::string()) != "lodestone-calibration")
+  if (!j.contains("format") || !j["format"].is_string() || j["format"].get<std::string>() != "lodestone-calibration")
     return Status::input(fmt::format("{}: not a calibration file (\"format\" must be \"lodestone-calibration\")", path));
   if (!j.contains("version") || !j["version"].is_number_integer() || j["version"].get<long>() != 1)
     return Status::input(fmt::format("{}: unsupported calibration version (this lodestone reads version 1)", path));

@@ -5,6 +5,7 @@
 
 #include <cctype>
 #include <cmath>
+#include <cstdlib>
 #include <string_view>
 
 namespace lodestone::state {
@@ -14,6 +15,10 @@ namespace {
 Status bad(const std::string& option, const std::string& text, const std::string& why) {
   return Status::usage(fmt::format("{} '{}': {}; write it like 90s, 10m, 1h30m, 2d or HH:MM:SS", option, text, why));
 }
+
+// The digits (and at most one point) already checked; never throws: a number too
+// large for a double reads as infinity, one too small as zero (parse_duration refuses both).
+double to_number(const std::string& digits) { return std::strtod(digits.c_str(), nullptr); }
 
 // "1h30m", "90s", "1.5h": numbers each followed by a unit, units in order d h m s.
 Result<double> parse_units(const std::string& text, const std::string& option) {
@@ -29,7 +34,7 @@ Result<double> parse_units(const std::string& text, const std::string& option) {
       ++i;
     }
     if (i == start || (i - start == 1 && dot)) return bad(option, text, "expected a number");
-    const double value = std::stod(text.substr(start, i - start));
+    const double value = to_number(text.substr(start, i - start));
     if (i == text.size()) return bad(option, text, "a number needs a unit (d, h, m or s)");
     const std::size_t u = units.find(static_cast<char>(std::tolower(static_cast<unsigned char>(text[i]))));
     if (u == std::string_view::npos) return bad(option, text, fmt::format("unknown unit '{}'", text[i]));
@@ -49,7 +54,7 @@ Result<double> parse_clock(const std::string& text, const std::string& option) {
   if (auto dash = rest.find('-'); dash != std::string::npos) {
     const std::string d = rest.substr(0, dash);
     if (d.empty() || d.find_first_not_of("0123456789") != std::string::npos) return bad(option, text, "bad day count");
-    days = std::stod(d);
+    days = to_number(d);
     rest = rest.substr(dash + 1);
   }
   double parts[3];
@@ -60,7 +65,7 @@ Result<double> parse_clock(const std::string& text, const std::string& option) {
     const std::string field = rest.substr(pos, end == std::string::npos ? std::string::npos : end - pos);
     if (field.empty() || field.size() > 2 + (k == 0 ? 8 : 0) || field.find_first_not_of("0123456789") != std::string::npos)
       return bad(option, text, "expected HH:MM:SS");
-    parts[k] = std::stod(field);
+    parts[k] = to_number(field);
     pos = end + 1;
   }
   if (parts[1] >= 60 || parts[2] >= 60) return bad(option, text, "minutes and seconds must be below 60");
@@ -73,7 +78,8 @@ Result<double> parse_duration(const std::string& text, const std::string& option
   if (text.empty()) return bad(option, text, "empty");
   Result<double> r = text.find(':') != std::string::npos ? parse_clock(text, option) : parse_units(text, option);
   if (!r) return r;
-  if (!(*r > 0) || !std::isfinite(*r)) return bad(option, text, "must be longer than zero");
+  if (!std::isfinite(*r)) return bad(option, text, "too long");
+  if (!(*r > 0)) return bad(option, text, "must be longer than zero");
   return r;
 }
 

@@ -150,4 +150,10 @@ TEST(Calibration, OtherVersionsAreRefused) {
   EXPECT_NE(s.message().find("version"), std::string::npos);
   const std::string bad = R"({"format": "lodestone-calibration", "version": 1, "dense_flops_per_second": -1})";
   EXPECT_FALSE(plan::apply_calibration("c.json", bad, m).is_ok());
+  // A "format" of the wrong type is refused, not thrown.
+  for (const char* text : {R"({"format": 1, "version": 1})", R"({"format": null})", R"({"format": ["x"]})"}) {
+    Status f = plan::apply_calibration("c.json", text, m);
+    ASSERT_FALSE(f.is_ok()) << text;
+    EXPECT_NE(f.message().find("not a calibration file"), std::string::npos) << f.message();
+  }
 }

@@ -30,4 +30,12 @@ TEST(StopDuration, Refusals) {
     EXPECT_NE(r.status().message().find("1h30m"), std::string::npos) << r.status().message();
   }
   EXPECT_NE(parse_duration("90", "--checkpoint-every").status().message().find("needs a unit"), std::string::npos);
+  // Numbers past a double's range, either way, are refused as usage errors (they used to escape as exceptions).
+  const std::string huge(400, '9'), tiny = "0." + std::string(400, '0') + "1";
+  for (const std::string& text : {huge + "s", tiny + "s", huge + "-00:00:01"}) {
+    auto r = parse_duration(text, "--time-budget");
+    ASSERT_FALSE(r.is_ok()) << "accepted '" << text << "'";
+    EXPECT_EQ(r.status().kind(), lodestone::ErrorKind::usage);
+  }
+  EXPECT_NE(parse_duration(huge + "s", "--time-budget").status().message().find("too long"), std::string::npos);
 }
