@@ -10,6 +10,7 @@
 
 #include "algebra/small_eigen.hpp"
 #include "io/generators.hpp"
+#include "support/collective.hpp"
 #include "support/petsc_status.hpp"
 
 namespace lodestone::algebra {
@@ -25,7 +26,9 @@ Result<Block> Block::like(Mat a, int cols) {
     LODESTONE_PETSC(MatZeroEntries(b.mat_));
     return Status::ok();
   }();
-  if (!s) return s;
+  // The allocation can fail on one rank alone (its rows are the most, or its memory the
+  // least); every rank must leave with that failure, not carry on into the next collective.
+  LODESTONE_TRY(agree(b.comm_, s));
   b.cols_ = cols;
   b.local_rows_ = hi - lo;
   b.row_begin_ = lo;

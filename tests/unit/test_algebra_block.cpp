@@ -1,5 +1,6 @@
 // The distributed block layer: products, Gram matrices, orthonormalization,
-// projection and hashed start vectors, at every rank count.
+// projection and hashed start vectors, at every rank count; a failed allocation
+// on one rank is every rank's failure.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -135,4 +136,24 @@ TEST(AlgebraBlock, LeadingColumnsTimesSmallInPlace) {
     for (int j = cols; j < 8; ++j)
       for (PetscInt r = 0; r < x->local_rows(); ++r) ASSERT_EQ(x->column(j)[r], untouched->column(j - cols)[r]);
   }
+}
+
+TEST(AlgebraBlock, AFailedAllocationIsAgreedByEveryRank) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  if (comm_size(comm) < 2) GTEST_SKIP() << "needs a rank with rows and one without";
+  // With 64-bit indices the block below is a real 800-GB request, which the
+  // sanitizers' allocator refuses by stopping the program; with 32-bit indices PETSc
+  // refuses it as a size overflow first.
+  if (sizeof(PetscInt) > 4) GTEST_SKIP() << "needs 32-bit PETSc indices";
+  // Rank 0 owns no rows, so only the other ranks' part of a wide block is too large
+  // for PETSc (100 rows x 2^30 columns). Every rank must leave with the failure:
+  // a rank that carried on into the next collective would wait there for ever.
+  const PetscInt mine = comm_rank(comm) == 0 ? 0 : 100;
+  Mat a = nullptr;
+  ASSERT_EQ(MatCreateAIJ(comm, mine, mine, PETSC_DETERMINE, PETSC_DETERMINE, 1, nullptr, 0, nullptr, &a), 0);
+  ASSERT_EQ(MatAssemblyBegin(a, MAT_FINAL_ASSEMBLY), 0);
+  ASSERT_EQ(MatAssemblyEnd(a, MAT_FINAL_ASSEMBLY), 0);
+  auto b = Block::like(a, 1 << 30);
+  EXPECT_FALSE(b.is_ok()) << "rank " << comm_rank(comm);
+  MatDestroy(&a);
 }
