@@ -80,8 +80,8 @@ bool checkpoint_exists(MPI_Comm comm, const std::string& path);
 bool is_checkpoint_file(MPI_Comm comm, const std::string& path);
 
 // Collective. Writes `ckpt` (this rank's rows of every block are
-// ckpt.state.row_begin..row_end; ranks' ranges must tile 0..rows in rank order
-// or at least cover every row exactly once) atomically and durably; refuses to
+// ckpt.state.row_begin..row_end; ranks' ranges must tile 0..rows in rank order,
+// as a matrix's ownership ranges do) atomically and durably; refuses to
 // overwrite any of `inputs`.
 Status write_checkpoint(MPI_Comm comm, const std::string& path, const Checkpoint& ckpt,
                         const std::vector<std::string>& inputs = {});

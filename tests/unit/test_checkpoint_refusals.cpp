@@ -1,6 +1,7 @@
 // Every refusal on resume: another matrix (fingerprint, size), each
 // incompatible option, a newer or unknown format version, a truncated file, a
-// garbage file, a file of another kind. Each asserts the status and the message.
+// garbage file, a file of another kind; and on writing, row blocks that overlap.
+// Each asserts the status and the message.
 #include <gtest/gtest.h>
 #include <hdf5.h>
 
@@ -146,4 +147,17 @@ TEST(CheckpointRefusals, FlippedValueFailsItsChecksum) {
   }
   MPI_Barrier(comm);
   expect_refusal(read_mine(comm, path).status(), {"damaged checkpoint", "block 'basis'", "checksum"});
+}
+
+TEST(CheckpointRefusals, OverlappingRowBlocksAreNotWritten) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  if (comm_size(comm) < 2) GTEST_SKIP() << "needs two ranks";
+  // Every rank after the first takes its rows one earlier: the counts still add up to
+  // kRows, but one row is held twice and the last by no rank.
+  auto r = even_split(kRows, comm_rank(comm), comm_size(comm));
+  const std::int64_t shift = comm_rank(comm) > 0 ? 1 : 0;
+  std::string path = test::temp_path(comm, "overlap.ckpt.h5");
+  Status s = write_checkpoint(comm, path, test::fixture_checkpoint(kRows, r.begin - shift, r.end - shift));
+  expect_refusal(s, {"contiguous"});
+  EXPECT_FALSE(std::filesystem::exists(path));
 }
