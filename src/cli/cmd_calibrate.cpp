@@ -27,7 +27,7 @@ Command make_calibrate_command(CLI::App& root) {
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 50))->capture_default_str();
   app->add_option("--method", a->req.method, "auto | power | block | chebyshev | krylov, as for solve and plan")
       ->check(CLI::IsMember({"auto", "power", "block", "chebyshev", "krylov"}))->capture_default_str();
-  app->add_option("--block-size", a->req.block_size, "block and chebyshev: vectors per block (default K plus a few)")
+  app->add_option("--block-size", a->req.block_size, "block and chebyshev: vectors per block (default K plus a few; chebyshev needs more than K)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
   app->add_option("--tol", a->req.tolerance, "tolerance of the short solve, as for solve")
       ->check(CLI::Range(1e-16, 0.5))->capture_default_str();

@@ -1,5 +1,6 @@
-// The solve() API: refusals, the matvec budget, and the method interface's
-// save/restore (what checkpoints will use) continuing a run to the same answer.
+// The solve() API: refusals (a Chebyshev block without a guard vector among them),
+// the matvec budget, and the method interface's save/restore (what checkpoints will
+// use) continuing a run to the same answer.
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -50,6 +51,33 @@ TEST(SolverApi, RefusesWhatNonSymmetricInputCannotDo) {
   ASSERT_TRUE(d.is_ok()) << d.status().message();
   EXPECT_NEAR(d->eigenvalues[0], 8.0, 1e-7);
   EXPECT_NEAR(d->eigenvalues[1], 7.0, 1e-7);
+}
+
+TEST(SolverApi, ChebyshevNeedsAGuardVector) {
+  Matrix m = laplace1d(200);
+  // With the block no wider than K the filter's cut would be the last wanted Ritz value,
+  // and that pair would never converge: refused, for auto (which picks chebyshev) too.
+  for (const char* method : {"chebyshev", "auto"}) {
+    SCOPED_TRACE(method);
+    auto o = test::quiet_options(4, method, "largest");
+    o.block_size = 4;
+    auto r = solve(m, o);
+    ASSERT_FALSE(r.is_ok());
+    EXPECT_EQ(r.status().kind(), ErrorKind::usage);
+    EXPECT_NE(r.status().message().find("no guard vector"), std::string::npos) << r.status().message();
+    o.block_size = 5;  // one guard is enough
+    auto ok = solve(m, o);
+    ASSERT_TRUE(ok.is_ok()) << ok.status().message();
+    EXPECT_EQ(ok->converged, 4);
+    for (int j = 0; j < 4; ++j) EXPECT_NEAR(ok->eigenvalues[j], lap1(200, 200 - j), 1e-7) << "pair " << j;
+  }
+  // The block method takes a block of exactly K.
+  auto o = test::quiet_options(4, "block", "largest");
+  o.block_size = 4;
+  o.max_matvecs = 200000;
+  auto b = solve(m, o);
+  ASSERT_TRUE(b.is_ok()) << b.status().message();
+  EXPECT_EQ(b->converged, 4);
 }
 
 TEST(SolverApi, BudgetKeepsConvergedPairs) {
