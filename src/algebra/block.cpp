@@ -257,7 +257,10 @@ bool cholesky_qr_pass(Block& x) {
   double dmax = 0, dmin = INFINITY;
   for (int j = 0; j < g.rows; ++j) dmax = std::max(dmax, g(j, j)), dmin = std::min(dmin, g(j, j));
   if (!(dmin > 0)) return false;
-  // Scale columns so the test is about angles, not lengths.
+  // The test below is on R's pivots relative to the largest, so columns whose lengths
+  // differ by more than about 1e6 go to the fallback too, even at right angles. The
+  // filtered blocks of the methods did not (no fallback on the Laplacians or on a
+  // spectrum with one eigenvalue far out), so lengths are not scaled out here.
   if (!cholesky_upper(g)) return false;
   double rmin = INFINITY, rmax = 0;
   for (int j = 0; j < g.rows; ++j) rmin = std::min(rmin, std::fabs(g(j, j))), rmax = std::max(rmax, std::fabs(g(j, j)));
