@@ -20,7 +20,8 @@ Command make_import_command(CLI::App& root) {
   app->footer(
       "Reads the coordinate and array formats with real, integer or pattern values\n"
       "and general, symmetric or skew-symmetric symmetry. Symmetric kinds are\n"
-      "expanded to both triangles; duplicate coordinate entries are summed; pattern\n"
+      "expanded to both triangles; duplicate coordinate entries are summed (smallest\n"
+      "value first, so the sum is the same bits on any number of ranks); pattern\n"
       "entries read as 1; exact zeros of the array format are not stored. Complex\n"
       "and hermitian files are refused (real arithmetic only), and so is a\n"
       "non-square matrix. Every rank reads its own share of the file, so memory per\n"
