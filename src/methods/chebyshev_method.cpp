@@ -31,8 +31,10 @@ constexpr int kMinDegree = 4;
 constexpr int kMaxDegree = 400;
 constexpr int kStartDegree = 10;
 // How much more the filter may grow the far end of the spectrum than the least wanted
-// pair still needed (choose_degree).
-constexpr double kMaxGrowth = 1e8;
+// pair still needed (choose_degree): a rounding-level share (1e-16) of a locked vector
+// then stays below a hundredth of the column. Measured: 1e8 cost (a)'s 400 x 290
+// Laplacian 13 % more products than no cap, 1e14 2 %; both solve the far-out case.
+constexpr double kMaxGrowth = 1e14;
 
 class ChebyshevMethod final : public SubspaceMethod {
  public:
