@@ -267,8 +267,25 @@ Result<Pairs> SubspaceMethod::extract() {
     for (int j = 0; j < locked_; ++j) re[j] = lre[j], im[j] = lim[j], locked_flag[j] = 1;
   }
   if (take_active > 0) {
-    Small y = Small::identity(active_);
-    if (!problem_.symmetric) {
+    Small y = Small::identity(active_), z;  // z: the locked vectors' share (non-symmetric)
+    if (!problem_.symmetric && locked_ > 0) {
+      // A [Q X] = [Q X] [T C; 0 T_act] + residual: an eigenvector of the whole
+      // quasi-triangular matrix has a part in Q too, (lambda I - T)^-1 C y, which X y alone
+      // would leave out (a pair not yet converged would then report a worse vector and
+      // residual than the subspace holds).
+      const int nl = locked_, n = locked_ + active_;
+      Small h(n, n);
+      for (int j = 0; j < nl; ++j)
+        for (int i = 0; i < nl; ++i) h(i, j) = t_(i, j);
+      for (int j = 0; j < active_; ++j) {
+        for (int i = 0; i < nl; ++i) h(i, nl + j) = c_act_(i, j);
+        for (int i = 0; i < active_; ++i) h(nl + i, nl + j) = t_act_(i, j);
+      }
+      auto ev = algebra::schur_eigenvectors(comm_, h);
+      if (!ev) return ev.status();
+      y = ev->sub(nl, active_, nl, active_);
+      z = ev->sub(0, nl, nl, take_active);
+    } else if (!problem_.symmetric) {
       auto ev = algebra::schur_eigenvectors(comm_, t_act_);
       if (!ev) return ev.status();
       y = std::move(*ev);
@@ -276,6 +293,10 @@ Result<Pairs> SubspaceMethod::extract() {
     auto va = Block::like(op_->mat(), take_active);
     if (!va) return va.status();
     algebra::times_small(x_, y.columns(0, take_active), *va);
+    if (z.cols > 0) {
+      for (double& e : z.a) e = -e;
+      algebra::subtract_times(*va, q_, z);  // va += Q z
+    }
     algebra::copy_columns(*va, 0, *v, locked_, take_active);
     for (int j = 0; j < take_active; ++j) re[locked_ + j] = ritz_re_[j], im[locked_ + j] = ritz_im_[j];
   }
