@@ -68,7 +68,8 @@ for r in rows:
         # ... and beside it the fraction of the lowest reading, never smaller.
         lowest = min(x for x in readings if x > 0)
         assert float(r["product_of_lowest_triad"]) >= float(r["product_of_triad"]), r
-        assert abs(float(r["product_of_lowest_triad"]) * lowest / float(r["product_gbs"]) - 1) < 0.01, r
+        # The readings are printed to 0.1 GB/s: a low one (a busy machine) is that much less exact.
+        assert abs(float(r["product_of_lowest_triad"]) * lowest / float(r["product_gbs"]) - 1) < 0.01 + 0.051 / lowest, r
 # The slowest rank's product time over the fastest's, from -log_view's max/min ratio: at least 1.
 for r in rows:
     if r["contender"].startswith("lodestone") and r.get("product_calls") and r["ranks"] == "2":
