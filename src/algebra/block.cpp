@@ -260,7 +260,7 @@ bool cholesky_qr_pass(Block& x) {
   // The test below is on R's pivots relative to the largest, so columns whose lengths
   // differ by more than about 1e6 go to the fallback too, even at right angles. The
   // methods' filtered blocks rarely do (counted: never in Chebyshev solves of 2-D
-  // Laplacians, twice in one with an eigenvalue far out), so lengths are not scaled out.
+  // Laplacians, once in one with an eigenvalue far out), so lengths are not scaled out.
   if (!cholesky_upper(g)) return false;
   double rmin = INFINITY, rmax = 0;
   for (int j = 0; j < g.rows; ++j) rmin = std::min(rmin, std::fabs(g(j, j))), rmax = std::max(rmax, std::fabs(g(j, j)));
