@@ -99,17 +99,7 @@ static Status check_across(MPI_Comm comm, const SolveResult& r) {
   if (min_all(comm, k) != max_all(comm, k) || min_all(comm, h) != max_all(comm, h) ||
       min_all(comm, r.rows) != max_all(comm, r.rows))
     return Status::input("result to write: ranks disagree on the number of pairs, rows or history records");
-  const std::int64_t before = exclusive_prefix_sum(comm, r.local_rows());
-  const std::int64_t total = sum_all(comm, r.local_rows());
-  Status s;
-  if (before != r.row_begin)
-    s = Status::input(fmt::format("result to write: rank {} starts at row {}, but the ranks before it hold {} rows "
-                                  "(row blocks must be contiguous and in rank order)",
-                                  comm_rank(comm), r.row_begin, before));
-  s = agree(comm, s);
-  if (s && total != r.rows)
-    s = Status::input(fmt::format("result to write: the ranks hold {} rows together; the vectors have {}", total, r.rows));
-  return s;
+  return check_row_blocks(comm, r.row_begin, r.local_rows(), r.rows, "result to write");
 }
 
 // A replicated 1-D array: created by all ranks, data selected by rank 0 only.

@@ -46,15 +46,7 @@ Status check_before_writing(MPI_Comm comm, const Checkpoint& c) {
                                     name, comm_rank(comm), b.local.size(), b.columns, local));
   }
   LODESTONE_TRY(agree(comm, s));
-  // Row counts that add up are not enough: overlapping ranges would leave rows unwritten.
-  const std::int64_t before = exclusive_prefix_sum(comm, local);
-  if (before != st.row_begin)
-    s = Status::input(fmt::format("checkpoint: rank {} starts at row {}, but the ranks before it hold {} rows "
-                                  "(row blocks must be contiguous and in rank order)",
-                                  comm_rank(comm), st.row_begin, before));
-  LODESTONE_TRY(agree(comm, s));
-  if (sum_all(comm, local) != st.rows)
-    return Status::input(fmt::format("checkpoint: the ranks' rows add up to {}, not {}", sum_all(comm, local), st.rows));
+  LODESTONE_TRY(check_row_blocks(comm, st.row_begin, local, st.rows, "checkpoint"));
   const std::uint64_t h = small_checksum(c);
   std::uint64_t lo = 0, hi = 0;
   MPI_Allreduce(&h, &lo, 1, MPI_UINT64_T, MPI_MIN, comm);

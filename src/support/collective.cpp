@@ -1,6 +1,8 @@
 // Failure agreement and small reductions shared by every layer.
 #include "support/collective.hpp"
 
+#include <fmt/format.h>
+
 #include <string>
 
 namespace lodestone {
@@ -73,6 +75,20 @@ std::int64_t exclusive_prefix_sum(MPI_Comm comm, std::int64_t v) {
   MPI_Exscan(&v, &out, 1, MPI_INT64_T, MPI_SUM, comm);
   if (comm_rank(comm) == 0) out = 0;  // MPI_Exscan leaves rank 0 undefined
   return out;
+}
+
+Status check_row_blocks(MPI_Comm comm, std::int64_t row_begin, std::int64_t local_rows, std::int64_t rows,
+                        std::string_view what) {
+  const std::int64_t before = exclusive_prefix_sum(comm, local_rows);
+  const std::int64_t total = sum_all(comm, local_rows);
+  Status s;
+  if (before != row_begin)
+    s = Status::input(fmt::format("{}: rank {} starts at row {}, but the ranks before it hold {} rows "
+                                  "(row blocks must be contiguous and in rank order)",
+                                  what, comm_rank(comm), row_begin, before));
+  else if (total != rows)
+    s = Status::input(fmt::format("{}: the ranks hold {} rows together, not {}", what, total, rows));
+  return agree(comm, s);
 }
 
 }  // namespace lodestone

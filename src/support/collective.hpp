@@ -9,6 +9,7 @@
 #include <mpi.h>
 
 #include <cstdint>
+#include <string_view>
 
 #include "lodestone/status.hpp"
 
@@ -28,5 +29,12 @@ std::uint64_t sum_all_u64(MPI_Comm comm, std::uint64_t v);
 double sum_all(MPI_Comm comm, double v);
 double max_all(MPI_Comm comm, double v);
 std::int64_t exclusive_prefix_sum(MPI_Comm comm, std::int64_t v);
+
+// Collective. Checks that the ranks' row blocks [row_begin, row_begin + local_rows)
+// are contiguous, in rank order and cover exactly 0..rows; counts that add up are
+// not enough, since overlapping ranges would leave rows unwritten. Returns the
+// agreed Status; `what` opens the message ("checkpoint", say).
+Status check_row_blocks(MPI_Comm comm, std::int64_t row_begin, std::int64_t local_rows, std::int64_t rows,
+                        std::string_view what);
 
 }  // namespace lodestone
