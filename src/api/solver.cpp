@@ -100,18 +100,9 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
                                info.symmetric ? "symmetric" : "non-symmetric"));
   }
   const methods::MethodInfo* entry = methods::find_method(method_name);
-  if (!entry) return Status::usage(fmt::format("unknown method '{}' (auto, power, block, chebyshev or krylov)", options.method));
-  if (entry->symmetric_only && !info.symmetric)
-    return Status::usage(fmt::format("--method {} needs a symmetric matrix; use --method block for this one", method_name));
-  if (options.has_shift && method_name == "chebyshev")
-    return Status::usage("--shift applies to --method power, block and krylov; the Chebyshev filter chooses its own interval");
-  if (options.block_size != 0 && options.block_size < options.pairs && method_name != "power")
-    return Status::usage(fmt::format("--block-size {} is smaller than --pairs {}", options.block_size, options.pairs));
-  // The filter damps the spectrum below the block's last Ritz value: that value must be
-  // a guard's, not a wanted pair's, or the last wanted pair is never pulled clear.
-  if (options.block_size != 0 && options.block_size <= options.pairs && method_name == "chebyshev")
-    return Status::usage(fmt::format("--block-size {} leaves chebyshev no guard vector beyond --pairs {}; give {} or more",
-                                     options.block_size, options.pairs, options.pairs + 1));
+  if (!entry)
+    return Status::usage(fmt::format("unknown method '{}' (auto, {})", options.method, methods::method_names()));
+  LODESTONE_TRY(methods::check_fit(*entry, info.symmetric, options.pairs, options.block_size, options.has_shift));
 
   std::optional<LogStage> stage(std::in_place, "Set up");
   auto norm = algebra::norm_estimate(matrix.petsc());

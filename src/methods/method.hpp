@@ -76,15 +76,26 @@ class Method {
   virtual Status restore(algebra::Operator& op, const Problem& problem, MethodState& state) = 0;
 };
 
-// The registry: adding a method is one more entry of the same shape.
+// The registry: adding a method is one more entry of the same shape. An entry
+// states what the method cannot serve, and check_fit() turns that into refusals,
+// so the solver and the planner refuse the same requests in the same words.
 struct MethodInfo {
   const char* name;
   const char* summary;
-  bool symmetric_only;
+  bool symmetric_only;  // refuses a matrix not declared symmetric
+  bool takes_shift;     // honours --shift
+  // Columns a given --block-size must hold beyond --pairs (a guard vector, say);
+  // -1 for a one-vector method, which ignores --block-size.
+  int block_beyond_pairs;
   std::unique_ptr<Method> (*make)();
 };
 const std::vector<MethodInfo>& registry();
 const MethodInfo* find_method(std::string_view name);
+// "power, block, chebyshev or krylov", for messages.
+std::string method_names();
+// A usage error naming the first thing this method cannot serve; ok otherwise.
+// block_size 0 means "the method chooses".
+Status check_fit(const MethodInfo& m, bool symmetric, std::int64_t pairs, std::int64_t block_size, bool has_shift);
 
 std::unique_ptr<Method> make_power();
 std::unique_ptr<Method> make_block();

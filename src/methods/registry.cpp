@@ -1,6 +1,8 @@
 // The table of methods by name (see method.hpp).
 #include "methods/method.hpp"
 
+#include <fmt/format.h>
+
 namespace lodestone::methods {
 
 const char* selection_name(Selection s) {
@@ -13,12 +15,39 @@ const char* selection_name(Selection s) {
 
 const std::vector<MethodInfo>& registry() {
   static const std::vector<MethodInfo> table = {
-      {"power", "normalized power iteration, one vector, with restarted deflation", false, &make_power},
-      {"block", "block power (subspace) iteration with Rayleigh-Ritz and locking", false, &make_block},
-      {"chebyshev", "Chebyshev-filtered block iteration (symmetric matrices)", true, &make_chebyshev},
-      {"krylov", "thick-restart Arnoldi (Krylov-Schur), one vector per product", false, &make_krylov},
+      {"power", "normalized power iteration, one vector, with restarted deflation", false, true, -1, &make_power},
+      {"block", "block power (subspace) iteration with Rayleigh-Ritz and locking", false, true, 0, &make_block},
+      // The filter damps the spectrum below the block's last Ritz value: that value must be
+      // a guard's, not a wanted pair's, or the last wanted pair is never pulled clear.
+      {"chebyshev", "Chebyshev-filtered block iteration (symmetric matrices)", true, false, 1, &make_chebyshev},
+      {"krylov", "thick-restart Arnoldi (Krylov-Schur), one vector per product", false, true, 0, &make_krylov},
   };
   return table;
+}
+
+std::string method_names() {
+  std::string out;
+  const auto& all = registry();
+  for (std::size_t i = 0; i < all.size(); ++i) {
+    if (i > 0) out += i + 1 == all.size() ? " or " : ", ";
+    out += all[i].name;
+  }
+  return out;
+}
+
+Status check_fit(const MethodInfo& m, bool symmetric, std::int64_t pairs, std::int64_t block_size, bool has_shift) {
+  if (m.symmetric_only && !symmetric)
+    return Status::usage(fmt::format("--method {} needs a symmetric matrix; this one is not declared symmetric "
+                                     "(use --method block)", m.name));
+  if (has_shift && !m.takes_shift)
+    return Status::usage(fmt::format("--method {} does not take --shift; it chooses its own interval", m.name));
+  if (block_size == 0 || m.block_beyond_pairs < 0) return Status::ok();
+  if (block_size < pairs)
+    return Status::usage(fmt::format("--block-size {} is smaller than --pairs {}", block_size, pairs));
+  if (block_size < pairs + m.block_beyond_pairs)
+    return Status::usage(fmt::format("--block-size {} leaves {} no guard vector beyond --pairs {}; give {} or more",
+                                     block_size, m.name, pairs, pairs + m.block_beyond_pairs));
+  return Status::ok();
 }
 
 const MethodInfo* find_method(std::string_view name) {

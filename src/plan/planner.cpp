@@ -11,6 +11,7 @@
 #include "io/layout.hpp"
 #include "io/matrix_reader.hpp"
 #include "lodestone/plan.hpp"
+#include "methods/method.hpp"
 #include "plan/calibration.hpp"
 #include "plan/matrix_facts.hpp"
 #include "plan/model.hpp"
@@ -68,12 +69,10 @@ Status check_request(const PlanRequest& r) {
     return Status::usage("--scheduler local runs on one machine: leave out --nodes or give --nodes 1");
   if (r.max_walltime > 0 && r.max_walltime < 60 && r.scheduler != Scheduler::local)
     return Status::usage("--max-walltime must be at least one minute (schedulers count whole minutes)");
-  if (r.method != "auto" && r.method != "power" && r.method != "block" && r.method != "chebyshev" && r.method != "krylov")
-    return Status::usage(fmt::format("--method '{}': expected auto, power, block, chebyshev or krylov", r.method));
+  if (r.method != "auto" && !methods::find_method(r.method))
+    return Status::usage(fmt::format("--method '{}': expected auto, {}", r.method, methods::method_names()));
   if (r.block_size < 0) return Status::usage("--block-size must be at least 1");
   if (r.ghost_rows < 0) return Status::usage("--ghost-rows must be at least 1");
-  if (r.block_size > 0 && r.block_size < r.pairs)
-    return Status::usage(fmt::format("--block-size {} is smaller than --pairs {}", r.block_size, r.pairs));
   return Status::ok();
 }
 
@@ -221,8 +220,7 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     method = f.symmetric ? "chebyshev" : "krylov";
     p.method_reason = f.symmetric ? "auto: the matrix is symmetric" : "auto: the matrix is not symmetric";
   }
-  if (method == "chebyshev" && !f.symmetric)
-    return Status::usage("--method chebyshev needs a symmetric matrix; this one is not declared symmetric (use block)");
+  LODESTONE_TRY(methods::check_fit(*methods::find_method(method), f.symmetric, r.pairs, r.block_size, false));
   const MethodShape s = plan::method_shape(method, r.pairs, r.block_size);
   p.method = method;
   p.block = s.block;

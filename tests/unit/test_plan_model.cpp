@@ -254,6 +254,35 @@ TEST(PlanModel, BadCalibrationIsAnInputError) {
   EXPECT_NE(p.status().message().find("seconds_per_nonzero"), std::string::npos);
 }
 
+// The planner refuses what the solve would refuse, in the same words: a plan for a
+// run that cannot start is worse than no plan.
+TEST(PlanModel, RefusesWhatTheSolveWouldRefuse) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::string path = write_laplace1d(comm, 100);
+  PlanRequest r;
+  r.matrix_path = path;
+  r.scheduler = Scheduler::local;
+  r.cores_per_node = 2;
+  r.node_memory = std::int64_t{1} << 30;
+  r.pairs = 4;
+  auto refusal = [&](const std::string& method, std::int64_t block) {
+    r.method = method;
+    r.block_size = block;
+    auto p = make_plan(comm, r);
+    if (p.is_ok()) return std::string("(planned)");
+    EXPECT_EQ(p.status().kind(), ErrorKind::usage) << p.status().message();
+    return p.status().message();
+  };
+  EXPECT_NE(refusal("block", 3).find("--block-size 3 is smaller than --pairs 4"), std::string::npos);
+  // auto is chebyshev on this symmetric matrix, which needs a guard vector beyond K.
+  EXPECT_NE(refusal("auto", 4).find("no guard vector beyond --pairs 4; give 5 or more"), std::string::npos);
+  EXPECT_NE(refusal("chebyshev", 4).find("no guard vector"), std::string::npos);
+  EXPECT_EQ(refusal("chebyshev", 5), "(planned)");
+  EXPECT_EQ(refusal("block", 4), "(planned)");
+  EXPECT_EQ(refusal("power", 1), "(planned)");  // one vector: --block-size does not apply
+  EXPECT_NE(refusal("lanczos", 0).find("expected auto, power, block, chebyshev or krylov"), std::string::npos);
+}
+
 TEST(PlanModel, MoreNodesWhenTheyCutChainedJobs) {
   MPI_Comm comm = MPI_COMM_WORLD;
   const std::string path = write_laplace1d(comm, 200000);

@@ -78,6 +78,15 @@ TEST(SolverApi, ChebyshevNeedsAGuardVector) {
   auto b = solve(m, o);
   ASSERT_TRUE(b.is_ok()) << b.status().message();
   EXPECT_EQ(b->converged, 4);
+  // The filter chooses its own interval: a shift is refused, not silently ignored.
+  auto c = test::quiet_options(4, "chebyshev", "largest");
+  c.has_shift = true;
+  c.shift = 1.0;
+  auto s = solve(m, c);
+  ASSERT_FALSE(s.is_ok());
+  EXPECT_EQ(s.status().kind(), ErrorKind::usage);
+  EXPECT_NE(s.status().message().find("--method chebyshev does not take --shift"), std::string::npos)
+      << s.status().message();
 }
 
 TEST(SolverApi, BudgetKeepsConvergedPairs) {
