@@ -247,6 +247,26 @@ Result<Pairs> SubspaceMethod::extract() {
   std::vector<char> locked_flag(m, 0);
   auto v = Block::like(op_->mat(), m);
   if (!v) return v.status();
+  // Non-symmetric with locked pairs: A [Q X] = [Q X] [T C; 0 T_act] + residual, and the
+  // eigenvectors of that whole quasi-triangular matrix serve both parts. A locked pair's has
+  // zeros below T (the back-substitution stops at its own row, so it is T's own); an active
+  // pair's has a part in Q too, (lambda I - T)^-1 C y, which X y alone would leave out (a
+  // pair not yet converged would then report a worse vector and residual than the
+  // subspace holds).
+  Small whole_ev;
+  if (!problem_.symmetric && locked_ > 0) {
+    const int nl = locked_, na = take_active > 0 ? active_ : 0;
+    Small h(nl + na, nl + na);
+    for (int j = 0; j < nl; ++j)
+      for (int i = 0; i < nl; ++i) h(i, j) = t_(i, j);
+    for (int j = 0; j < na; ++j) {
+      for (int i = 0; i < nl; ++i) h(i, nl + j) = c_act_(i, j);
+      for (int i = 0; i < na; ++i) h(nl + i, nl + j) = t_act_(i, j);
+    }
+    auto ev = algebra::schur_eigenvectors(comm_, h);
+    if (!ev) return ev.status();
+    whole_ev = std::move(*ev);
+  }
   if (locked_ > 0) {
     std::vector<double> lre, lim;
     Small y = Small::identity(locked_);
@@ -256,9 +276,7 @@ Result<Pairs> SubspaceMethod::extract() {
       for (int j = 0; j < locked_; ++j) lre[j] = t_(j, j);
     } else {
       algebra::quasi_triangular_eigenvalues(t_, lre, lim);
-      auto ev = algebra::schur_eigenvectors(comm_, t_);
-      if (!ev) return ev.status();
-      y = std::move(*ev);
+      y = whole_ev.sub(0, locked_, 0, locked_);
     }
     auto vl = Block::like(op_->mat(), locked_);
     if (!vl) return vl.status();
@@ -269,22 +287,8 @@ Result<Pairs> SubspaceMethod::extract() {
   if (take_active > 0) {
     Small y = Small::identity(active_), z;  // z: the locked vectors' share (non-symmetric)
     if (!problem_.symmetric && locked_ > 0) {
-      // A [Q X] = [Q X] [T C; 0 T_act] + residual: an eigenvector of the whole
-      // quasi-triangular matrix has a part in Q too, (lambda I - T)^-1 C y, which X y alone
-      // would leave out (a pair not yet converged would then report a worse vector and
-      // residual than the subspace holds).
-      const int nl = locked_, n = locked_ + active_;
-      Small h(n, n);
-      for (int j = 0; j < nl; ++j)
-        for (int i = 0; i < nl; ++i) h(i, j) = t_(i, j);
-      for (int j = 0; j < active_; ++j) {
-        for (int i = 0; i < nl; ++i) h(i, nl + j) = c_act_(i, j);
-        for (int i = 0; i < active_; ++i) h(nl + i, nl + j) = t_act_(i, j);
-      }
-      auto ev = algebra::schur_eigenvectors(comm_, h);
-      if (!ev) return ev.status();
-      y = ev->sub(nl, active_, nl, active_);
-      z = ev->sub(0, nl, nl, take_active);
+      y = whole_ev.sub(locked_, active_, locked_, active_);
+      z = whole_ev.sub(0, locked_, locked_, take_active);
     } else if (!problem_.symmetric) {
       auto ev = algebra::schur_eigenvectors(comm_, t_act_);
       if (!ev) return ev.status();
