@@ -11,6 +11,7 @@ namespace {
 constexpr double kSafety = 1.5;         // common practice: room for iteration-to-iteration variation
 constexpr std::size_t kRemember = 8;    // costs remembered (the largest counts)
 constexpr double kDefaultInterval = 600;
+constexpr double kMaxGrowth = 4;        // growth assumed at most from one iteration to the next
 }  // namespace
 
 double default_checkpoint_interval(double time_budget) {
@@ -21,6 +22,16 @@ double default_checkpoint_interval(double time_budget) {
 double checkpoint_interval(const ClockOptions& o, double write_cost) {
   if (o.checkpoint_every > 0) return o.checkpoint_every;
   return std::max(default_checkpoint_interval(o.time_budget), 20.0 * write_cost);
+}
+
+double next_iteration_estimate(const std::deque<double>& costs) {
+  if (costs.empty()) return 0.0;
+  double estimate = *std::max_element(costs.begin(), costs.end());
+  if (costs.size() >= 2) {
+    const double last = costs.back(), before = costs[costs.size() - 2];
+    if (before > 0 && last > before) estimate = std::max(estimate, last * std::min(kMaxGrowth, last / before));
+  }
+  return estimate;
 }
 
 bool budget_exhausted(double time_budget, double elapsed, double iteration_cost, double write_cost) {
@@ -51,7 +62,7 @@ double RunClock::elapsed() const { return MPI_Wtime() - start_; }
 
 BoundaryDecision RunClock::at_boundary() {
   const double now = MPI_Wtime();
-  double local[5] = {static_cast<double>(local_stop_signal()), now - start_, largest(iteration_costs_),
+  double local[5] = {static_cast<double>(local_stop_signal()), now - start_, next_iteration_estimate(iteration_costs_),
                      largest(write_costs_), now - last_checkpoint_};
   double all[5];
   MPI_Allreduce(local, all, 5, MPI_DOUBLE, MPI_MAX, comm_);

@@ -9,10 +9,13 @@
 // Time budget: continuing means one more iteration and then, possibly, a
 // checkpoint write before the budget ends. The run stops at a boundary when
 //   elapsed + 1.5 * (iteration cost + checkpoint cost) + reserve > budget,
-// where the costs are the largest observed over the last few iterations and
-// writes (over all ranks), 1.5 is a safety factor for variation (common
-// practice), and reserve = min(10 s, 2% of the budget) covers start-up of the
-// write and exit. Until a checkpoint write has been timed, the first boundary
+// where the write cost is the largest observed over the last few writes, the
+// iteration cost the largest over the last few iterations or, when the last
+// iteration cost more than the one before, the last times that growth (at most
+// 4): a method whose iterations grow (Chebyshev raising its filter degree) is
+// expected to go on growing. Both are maxima over all ranks; 1.5 is a safety
+// factor for variation (common practice), and reserve = min(10 s, 2% of the
+// budget) covers start-up of the write and exit. Until a checkpoint write has been timed, the first boundary
 // asks for one so that its cost is known.
 //
 // Cadence: with --checkpoint-every the interval is as given. By default it is
@@ -45,6 +48,8 @@ struct BoundaryDecision {
 double default_checkpoint_interval(double time_budget);
 double checkpoint_interval(const ClockOptions& o, double write_cost);
 bool budget_exhausted(double time_budget, double elapsed, double iteration_cost, double write_cost);
+// The next iteration's expected cost from the last few (oldest first).
+double next_iteration_estimate(const std::deque<double>& costs);
 
 class RunClock {
  public:

@@ -17,6 +17,19 @@ TEST(StopBudget, StopsWhenTheNextIterationAndAWriteWouldNotFit) {
   EXPECT_TRUE(budget_exhausted(36000, 35991, 0, 0));
 }
 
+TEST(StopBudget, NextIterationFollowsGrowingCosts) {
+  EXPECT_EQ(next_iteration_estimate({}), 0.0);
+  EXPECT_EQ(next_iteration_estimate({5}), 5.0);
+  EXPECT_EQ(next_iteration_estimate({4, 6, 5}), 6.0);    // falling: the largest
+  EXPECT_EQ(next_iteration_estimate({1, 2, 4}), 8.0);    // doubling: doubles again
+  EXPECT_EQ(next_iteration_estimate({9, 2, 3}), 9.0);    // 3 x 1.5 = 4.5 < the largest
+  EXPECT_EQ(next_iteration_estimate({1, 10}), 40.0);     // growth counted at most 4x
+  // A filter whose degree doubles each iteration: 60 s, then 120 s. With 200 s of budget
+  // left, the next iteration (240 s) must not be started.
+  EXPECT_TRUE(budget_exhausted(1000, 800, next_iteration_estimate({60, 120}), 1));
+  EXPECT_FALSE(budget_exhausted(1000, 800, next_iteration_estimate({120, 120}), 1));
+}
+
 TEST(StopBudget, Cadence) {
   EXPECT_EQ(default_checkpoint_interval(0), 600);         // no budget: 10 minutes
   EXPECT_EQ(default_checkpoint_interval(86400), 600);     // long budget: still 10 minutes
