@@ -156,7 +156,13 @@ ReadOutcome read_one(MPI_Comm comm, const std::string& path, std::int64_t row_be
     return damaged(path, fmt::format("/state rows {} differ from /run rows {}", c.state.rows, c.identity.rows));
 
   Status range;
-  if (with_blocks && (row_begin < 0 || row_end < row_begin || row_end > c.state.rows))
+  // Rows beyond the checkpoint's: it was written for a smaller matrix (a finer mesh saved
+  // under the same name, say), which is what the message must say.
+  if (with_blocks && row_end > c.state.rows && row_begin >= 0 && row_end >= row_begin)
+    range = Status::input(fmt::format("{}: belongs to a different matrix: it holds {} rows, and this matrix has at "
+                                      "least {} (rows [{}, {}) on this rank)",
+                                      path, c.state.rows, row_end, row_begin, row_end));
+  else if (with_blocks && (row_begin < 0 || row_end < row_begin))
     range = Status::input(fmt::format("{}: rows [{}, {}) requested from a checkpoint of {} rows", path, row_begin,
                                       row_end, c.state.rows));
   if (Status s = agree(comm, range); !s) return {s, false};

@@ -167,6 +167,13 @@ run 2 "$LODESTONE" solve "$tmp/mid.h5" --pairs 5 --select largest --method block
 rc=0
 run 2 "$LODESTONE" solve "$tmp/ns.h5" "${SYM[@]}" --checkpoint "$ck" --resume --out "$tmp/x.h5" >"$tmp/ref.out" 2>&1 || rc=$?
 [[ "$rc" == 1 ]] && grep -q "different matrix" "$tmp/ref.out" || { cat "$tmp/ref.out"; fail "different matrix: exit $rc"; }
+# A larger matrix (a finer mesh saved under the same name, say): the same plain message,
+# not a complaint about row ranges.
+"$LODESTONE" generate laplace2d --nx 110 --ny 75 "$tmp/finer.h5" >/dev/null
+rc=0
+run 2 "$LODESTONE" solve "$tmp/finer.h5" "${SYM[@]}" --checkpoint "$ck" --resume --out "$tmp/x.h5" >"$tmp/ref.out" 2>&1 || rc=$?
+[[ "$rc" == 1 ]] && grep -q "belongs to a different matrix: it holds 7500 rows" "$tmp/ref.out" \
+  || { cat "$tmp/ref.out"; fail "larger matrix: exit $rc"; }
 
 # --time-budget: stops by itself with status 3; its checkpoint resumes (and a
 # second budgeted job either stops again further on or finishes).
