@@ -67,6 +67,13 @@ struct CheckpointPlan {
   std::vector<std::string> inputs;   // files the checkpoint must never overwrite
 };
 
+// Takes the stop signals (SIGTERM, SIGINT, SIGUSR1, SIGUSR2) from now on, as a
+// solve with a checkpoint does once it starts. Call it before Matrix::load when the
+// solve will checkpoint: a signal that arrives while the matrix loads is then kept,
+// and the solve stops with a checkpoint at its first iteration boundary (status
+// stopped) instead of the process dying by the signal.
+void catch_stop_signals();
+
 // The checkpoint layout version this build writes and the newest it reads.
 inline constexpr std::int64_t kCheckpointFormatVersion = 1;
 

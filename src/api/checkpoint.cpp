@@ -8,11 +8,14 @@
 #include "io/h5.hpp"
 #include "state/checkpoint_file.hpp"
 #include "state/checkpoint_layout.hpp"
+#include "state/stop_signals.hpp"
 #include "support/collective.hpp"
 
 namespace lodestone {
 
 std::string previous_checkpoint_path(const std::string& path) { return path + ".previous"; }
+
+void catch_stop_signals() { state::install_stop_handlers(); }
 
 bool checkpoint_exists(MPI_Comm comm, const std::string& path) {
   int found = 0;

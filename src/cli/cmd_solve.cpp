@@ -82,6 +82,8 @@ Command make_solve_command(CLI::App& root) {
             const double started = MPI_Wtime();  // --time-budget counts from here
             CheckpointPlan& plan = args->solve.checkpoint;
             plan.clock_start = started;
+            // A stop signal during the load then stops the solve at its first boundary.
+            if (!plan.path.empty()) catch_stop_signals();
             if (!args->every.empty()) {
               auto d = state::parse_duration(args->every, "--checkpoint-every");
               if (!d) return d.status();

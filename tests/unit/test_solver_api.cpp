@@ -1,13 +1,15 @@
-// The solve() API: refusals (a Chebyshev block without a guard vector among them),
-// the matvec budget, and the method interface's save/restore (what checkpoints will
-// use) continuing a run to the same answer.
+// The solve() API: refusals (a Chebyshev block without a guard vector among them), a
+// stop signal that comes before the solve starts, the matvec budget, and the method
+// interface's save/restore (what checkpoints will use) continuing a run to the same answer.
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <csignal>
 
 #include "algebra/operator.hpp"
 #include "io/generators.hpp"
 #include "methods/method.hpp"
+#include "state/stop_signals.hpp"
 #include "test_solver_matrices.hpp"
 
 using namespace lodestone;
@@ -87,6 +89,24 @@ TEST(SolverApi, ChebyshevNeedsAGuardVector) {
   EXPECT_EQ(s.status().kind(), ErrorKind::usage);
   EXPECT_NE(s.status().message().find("--method chebyshev does not take --shift"), std::string::npos)
       << s.status().message();
+}
+
+// A stop signal that comes while the matrix loads (catch_stop_signals() taken before
+// the load, as `solve --checkpoint` does) is kept: the solve stops with a checkpoint at
+// its first boundary. Without it, SIGUSR1's default action would end the process.
+TEST(SolverApi, AStopSignalDuringTheLoadStopsAtTheFirstBoundary) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  catch_stop_signals();
+  if (comm_rank(comm) == 0) std::raise(SIGUSR1);
+  Matrix m = laplace1d(200);
+  auto o = test::quiet_options(4, "block", "largest");
+  o.checkpoint.path = test::temp_path(comm, "early-signal.ckpt.h5");
+  auto r = solve(m, o);
+  state::clear_stop_flag();
+  state::restore_stop_handlers();
+  ASSERT_FALSE(r.is_ok());
+  EXPECT_EQ(r.status().kind(), ErrorKind::stopped) << r.status().message();
+  EXPECT_TRUE(checkpoint_exists(comm, o.checkpoint.path));
 }
 
 TEST(SolverApi, BudgetKeepsConvergedPairs) {
