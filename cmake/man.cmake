@@ -46,7 +46,8 @@ function(lodestone_man_page page program name summary)
     COMMAND ${CMAKE_COMMAND} -DHELP2MAN=${LODESTONE_HELP2MAN} "-DPROGRAM=${program}"
             "-DVERSION_STRING=${name} ${PROJECT_VERSION}" "-DSUMMARY=${summary}"
             -DINCLUDE=${see_also_file} -DOUTPUT=${page} -P ${page_script}
-    DEPENDS lodestone ${see_also_file} ${page_script}
+    # The launcher runs lodestone-core, whose help text the page holds: both.
+    DEPENDS lodestone lodestone_core ${see_also_file} ${page_script}
     COMMENT "Man page ${name}.1 (help2man)" VERBATIM)
 endfunction()
 lodestone_man_page(${LODESTONE_MAN_DIR}/lodestone.1 $<TARGET_FILE:lodestone> lodestone
