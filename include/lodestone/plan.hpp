@@ -29,6 +29,18 @@ namespace lodestone {
 enum class Scheduler { slurm, pbs, local };
 const char* scheduler_name(Scheduler s);
 
+// The solve's own options that a plan passes on to its script unchanged (they
+// are solve's options of the same names); unset: the solve's default. make_plan
+// refuses what solve would refuse for this matrix and method.
+struct SolveChoices {
+  std::string selection;        // magnitude | largest | smallest; empty: solve's default
+  double tolerance = 0;         // 0: solve's default
+  bool has_seed = false;
+  std::uint64_t seed = 0;
+  bool has_shift = false;
+  double shift = 0;
+};
+
 struct PlanRequest {
   std::string matrix_path;
   std::string group = "/matrix";
@@ -46,6 +58,7 @@ struct PlanRequest {
   // Ghost (halo) rows per rank when the user knows them (e.g. 2 x nx for a 2-D grid split
   // in row blocks); 0: the bound min(n - rows, nonzeros of the rank), since column indices are not read.
   std::int64_t ghost_rows = 0;
+  SolveChoices solve;
 };
 
 // Bytes one rank needs (the heaviest rank of the partition). Loading and solving
@@ -87,6 +100,8 @@ struct Plan {
   std::string method;                 // power | block | chebyshev (auto resolved)
   std::string method_reason;          // why auto chose it
   std::int64_t pairs = 0, block = 0, filter_degree = 0;
+  std::int64_t block_given = 0;       // --block-size as given, passed to the script's solve; 0: none
+  SolveChoices solve;                 // passed to the script's solve
   // The allocation.
   Scheduler scheduler = Scheduler::slurm;
   std::int64_t nodes = 0, ranks_per_node = 0, ranks = 0, cores_per_node = 0;

@@ -67,15 +67,23 @@ solve_args=(solve "$matrix" --group "$group" --pairs "$pairs" --method "$method"
   --out "$result" --checkpoint "$checkpoint" --resume --checkpoint-every "$checkpoint_every")
 
 # A warning signal from the scheduler (or Ctrl-C) reaches this shell; it is passed to
-# the solver as USR1 (mpirun forwards USR1 to every rank; TERM would make it kill them),
-# and the solver checkpoints at its next iteration boundary and exits with status 3.
+# the solver as USR1 (mpirun forwards USR1 to every rank), and the solver checkpoints
+# at its next iteration boundary and exits with status 3.
 solver_pid=''
+stop_requested=''
 trap 'echo "lodestone job: USR1 received; asking the solver to checkpoint and stop" >&2
+  stop_requested=1
   if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' USR1
 trap 'echo "lodestone job: TERM received; asking the solver to checkpoint and stop" >&2
+  stop_requested=1
   if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' TERM
 trap 'echo "lodestone job: INT received; asking the solver to checkpoint and stop" >&2
+  stop_requested=1
   if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' INT
+# Ctrl-C signals every process in the terminal's foreground group. mpirun would take it
+# as a reason to end the ranks; in a session of its own it does not see it, and this
+# shell passes the stop request on as above.
+if command -v setsid >/dev/null 2>&1; then launcher=(setsid "${launcher[@]}"); fi
 
 # Run in the background and wait, so a trap runs as soon as a signal arrives.
 "${launcher[@]}" "$lodestone" "${solve_args[@]}" &
@@ -87,6 +95,17 @@ while :; do
   if [ "$status" -gt 128 ] && kill -0 "$solver_pid" 2>/dev/null; then continue; fi
   break
 done
+# The solver may have ended just after a trap interrupted the wait: its own status
+# (bash keeps it) replaces the interruption's.
+if [ "$status" -gt 128 ]; then wait "$solver_pid"; status=$?; fi
+# Asked to stop, but ended otherwise: mpirun got a signal too and ended the ranks (it then
+# says 1, or a signal's status). A checkpoint on disk is whole (written under a temporary
+# name, then renamed), so go on as after a stop; work since it was written is lost.
+if [ -n "$stop_requested" ] && { [ "$status" -eq 1 ] || [ "$status" -gt 128 ]; } &&
+   { [ -f "$checkpoint" ] || [ -f "$checkpoint.previous" ]; }; then
+  echo "lodestone job: the solver ended with status $status after the stop request; resuming will start from the checkpoint in $checkpoint" >&2
+  status=3
+fi
 
 case "$status" in
   3)

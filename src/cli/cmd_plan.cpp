@@ -63,12 +63,17 @@ Command make_plan_command(CLI::App& root) {
   app->add_option("--ranks-per-node", a->req.ranks_per_node, "MPI ranks per node (default: one per core)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
   app->add_option("--method", a->req.method, "auto | power | block | chebyshev | krylov, as for solve")->capture_default_str();
-  app->add_option("--block-size", a->req.block_size, "block width the model assumes (default: K plus a few)")
+  app->add_option("--block-size", a->req.block_size, "block width, as for solve (the model assumes it and the script passes it on; default: K plus a few)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
   app->add_option("--ghost-rows", a->req.ghost_rows,
                   "ghost rows per rank, if known (default: an upper bound; column indices are not read)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 50));
   app->add_option("--group", a->req.group, "HDF5 group of the matrix")->capture_default_str();
+  app->add_option("--select", a->req.solve.selection, "passed to the script's solve: magnitude | largest | smallest")
+      ->check(CLI::IsMember({"magnitude", "largest", "smallest"}));
+  app->add_option("--tol", a->req.solve.tolerance, "passed to the script's solve")->check(CLI::Range(1e-16, 0.5));
+  CLI::Option* seed = app->add_option("--seed", a->req.solve.seed, "passed to the script's solve");
+  CLI::Option* shift = app->add_option("--shift", a->req.solve.shift, "passed to the script's solve (power, block, krylov)");
   app->add_option("--calibration", a->req.calibration_path, "JSON file of measured speeds (lodestone calibrate)");
   app->add_option("--out", a->out, "write the batch script here");
   app->add_option("--job-name", a->job.job_name, "job name (letters, digits, . _ -)")->capture_default_str();
@@ -85,8 +90,10 @@ Command make_plan_command(CLI::App& root) {
       "  lodestone plan bridge.h5 --pairs 6 --scheduler slurm --cores-per-node 64 --node-memory 256G \\\n"
       "      --max-walltime 12:00:00 --account structures --out bridge.slurm\n"
       "  lodestone plan bridge.h5 --pairs 6 --scheduler local --cores-per-node 8 --node-memory 32G");
-  return {app, [a](MPI_Comm comm) -> Status {
+  return {app, [a, seed, shift](MPI_Comm comm) -> Status {
             PlanRequest req = a->req;
+            req.solve.has_seed = seed->count() > 0;
+            req.solve.has_shift = shift->count() > 0;
             req.scheduler = a->scheduler == "pbs" ? Scheduler::pbs : a->scheduler == "local" ? Scheduler::local : Scheduler::slurm;
             auto mem = plan::parse_size(a->node_memory, "--node-memory");
             if (!mem) return mem.status();

@@ -1,7 +1,9 @@
 // describe_plan: the sizing summary, in lines a person can check by hand.
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 
 #include "lodestone/plan.hpp"
+#include "plan/solve_choices.hpp"
 #include "plan/units.hpp"
 #include "support/format.hpp"
 
@@ -32,6 +34,8 @@ std::string describe_plan(const Plan& p) {
   else if (p.method != "power") method += fmt::format(", block of {} vectors", p.block);
   if (p.filter_degree > 0) method += fmt::format(", filter degree {}", p.filter_degree);
   line("method", method);
+  const auto passed = plan::passed_solve_options(p);
+  if (!passed.empty()) line("solve options", fmt::format("{} (passed to the script's solve)", fmt::join(passed, " ")));
   line("scheduler", scheduler_name(p.scheduler));
   line("allocation", fmt::format("{} node{} x {} rank{} = {} rank{} ({} cores, {} per node)", p.nodes,
                                  p.nodes == 1 ? "" : "s", p.ranks_per_node, p.ranks_per_node == 1 ? "" : "s", p.ranks,

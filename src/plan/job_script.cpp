@@ -7,6 +7,7 @@
 #include <sstream>
 
 #include "lodestone/plan.hpp"
+#include "plan/solve_choices.hpp"
 #include "plan/units.hpp"
 
 namespace lodestone {
@@ -97,17 +98,26 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   }
   s += "solve_args=(solve \"$matrix\" --group \"$group\" --pairs \"$pairs\" --method \"$method\"\n";
   s += "  --out \"$result\" --checkpoint \"$checkpoint\" --resume --checkpoint-every \"$checkpoint_every\")\n";
+  for (const std::string& w : plan::passed_solve_options(p)) s += fmt::format("solve_args+=({})\n", w);
   if (time_budget > 0) s += fmt::format("solve_args+=(--time-budget {}s)\n", time_budget);
   s += "\n";
   s += "# A warning signal from the scheduler (or Ctrl-C) reaches this shell; it is passed to\n";
-  s += "# the solver as USR1 (mpirun forwards USR1 to every rank; TERM would make it kill them),\n";
-  s += "# and the solver checkpoints at its next iteration boundary and exits with status 3.\n";
+  s += "# the solver as USR1 (mpirun forwards USR1 to every rank), and the solver checkpoints\n";
+  s += "# at its next iteration boundary and exits with status 3.\n";
   s += "solver_pid=''\n";
+  s += "stop_requested=''\n";
   for (const char* sig : {"USR1", "TERM", "INT"}) {
     if (!local && std::string(sig) == "INT") continue;
     s += fmt::format("trap 'echo \"lodestone job: {0} received; asking the solver to checkpoint and stop\" >&2\n"
+                     "  stop_requested=1\n"
                      "  if [ -n \"$solver_pid\" ]; then kill -USR1 \"$solver_pid\" 2>/dev/null || true; fi' {0}\n",
                      sig);
+  }
+  if (local) {
+    s += "# Ctrl-C signals every process in the terminal's foreground group. mpirun would take it\n";
+    s += "# as a reason to end the ranks; in a session of its own it does not see it, and this\n";
+    s += "# shell passes the stop request on as above.\n";
+    s += "if command -v setsid >/dev/null 2>&1; then launcher=(setsid \"${launcher[@]}\"); fi\n";
   }
   s += "\n";
   s += "# Run in the background and wait, so a trap runs as soon as a signal arrives.\n";
@@ -119,7 +129,18 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   s += "  # Above 128 while the solver still runs: a trap interrupted the wait; wait again.\n";
   s += "  if [ \"$status\" -gt 128 ] && kill -0 \"$solver_pid\" 2>/dev/null; then continue; fi\n";
   s += "  break\n";
-  s += "done\n\n";
+  s += "done\n";
+  s += "# The solver may have ended just after a trap interrupted the wait: its own status\n";
+  s += "# (bash keeps it) replaces the interruption's.\n";
+  s += "if [ \"$status\" -gt 128 ]; then wait \"$solver_pid\"; status=$?; fi\n";
+  s += "# Asked to stop, but ended otherwise: mpirun got a signal too and ended the ranks (it then\n";
+  s += "# says 1, or a signal's status). A checkpoint on disk is whole (written under a temporary\n";
+  s += "# name, then renamed), so go on as after a stop; work since it was written is lost.\n";
+  s += "if [ -n \"$stop_requested\" ] && { [ \"$status\" -eq 1 ] || [ \"$status\" -gt 128 ]; } &&\n";
+  s += "   { [ -f \"$checkpoint\" ] || [ -f \"$checkpoint.previous\" ]; }; then\n";
+  s += "  echo \"lodestone job: the solver ended with status $status after the stop request; resuming will start from the checkpoint in $checkpoint\" >&2\n";
+  s += "  status=3\n";
+  s += "fi\n\n";
   return s;
 }
 
@@ -158,7 +179,10 @@ std::string slurm_script(const Plan& p, const JobOptions& o) {
   if (!o.account.empty()) s += fmt::format("#SBATCH --account={}\n", o.account);
   if (!o.partition.empty()) s += fmt::format("#SBATCH --partition={}\n", o.partition);
   s += "\n";
-  s += launch_block(p, o, 0, false);
+  s += "# Slurm warns this shell (USR1) the stop margin before the limit. An iteration can outgrow\n";
+  s += "# that margin, so the solver also stops itself (--time-budget, half the margin later than\n";
+  s += "# the warning) before an iteration it predicts would not end in time.\n";
+  s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin / 2), false);
   s += fmt::format("max_requeues={}\n", 2 * p.jobs_high + 2);
   s += "case \"$status\" in\n";
   s += "  3)\n";
@@ -188,6 +212,7 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
   s += "#PBS -l place=scatter\n";
   s += fmt::format("#PBS -l walltime={}\n", plan::format_hms(p.job_walltime));
   s += "#PBS -j oe\n";
+  s += "#PBS -S /bin/bash\n";
   if (!o.account.empty()) s += fmt::format("#PBS -A {}\n", o.account);
   if (!o.partition.empty()) s += fmt::format("#PBS -q {}\n", o.partition);
   s += "\n";

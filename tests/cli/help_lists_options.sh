@@ -9,7 +9,7 @@ declare -A options=(
   [solve]="--pairs --out --select --method --tol --max-matvecs --seed --group --shift --block-size --checkpoint --checkpoint-every --resume --time-budget --quiet"
   [verify]="--group"
   [calibrate]="--pairs --out --matvecs --method --block-size --tol --seed --group"
-  [plan]="--pairs --scheduler --cores-per-node --node-memory --max-walltime --nodes --max-nodes --ranks-per-node --method --block-size --ghost-rows --group --calibration --out --job-name --account --partition --result --checkpoint --lodestone"
+  [plan]="--pairs --scheduler --cores-per-node --node-memory --max-walltime --nodes --max-nodes --ranks-per-node --method --block-size --select --tol --seed --shift --ghost-rows --group --calibration --out --job-name --account --partition --result --checkpoint --lodestone"
 )
 out=$("$LODESTONE" --help)
 for cmd in "${!options[@]}"; do

@@ -33,6 +33,29 @@ for s in slurm pbs local; do
 done
 grep -q '^#SBATCH --signal=B:USR1@[0-9]*$' job.slurm || fail "no --signal directive"
 grep -q '^#PBS -l select=1:ncpus=4:mpiprocs=4:mem=[0-9]*mb$' job.pbs || fail "no select directive"
+grep -qx '#PBS -S /bin/bash' job.pbs || fail "the PBS script does not ask for bash"
+# Slurm's warning can come too late for an iteration that grew: the solver also stops itself.
+grep -q '^solve_args+=(--time-budget [0-9]*s)$' job.slurm || fail "the Slurm script passes no --time-budget"
+
+# The solve's own options given to plan reach the script's solve, which runs with them.
+run 2 "$LODESTONE" generate laplace2d --nx 20 --ny 15 small.h5 >/dev/null
+one "$LODESTONE" plan small.h5 --pairs 3 --method block --block-size 5 --select smallest --tol 1e-9 --seed 7 \
+  --scheduler local --cores-per-node 2 --node-memory 4G --lodestone "$LODESTONE" --out passed.sh > passed.txt
+grep -qF "solve options         --block-size=5 --select=smallest --tol=1e-09 --seed=7" passed.txt \
+  || { cat passed.txt; fail "the summary does not list the options passed on"; }
+for w in --block-size=5 --select=smallest --tol=1e-09 --seed=7; do
+  grep -qx "solve_args+=($w)" passed.sh || fail "passed.sh does not pass $w"
+done
+./passed.sh > passed.log 2>&1 || { cat passed.log; fail "passed.sh did not finish"; }
+one "$LODESTONE" inspect small.result.h5 > passed-result.txt
+# (The results file records the method, selection and tolerance; the solve accepted the rest.)
+for w in "block, selection smallest" "tolerance   1e-09"; do
+  grep -qF "$w" passed-result.txt || { cat passed-result.txt; fail "the solve did not run with '$w'"; }
+done
+# A negative shift is one word (--shift=-0.5), not taken for an option.
+one "$LODESTONE" plan small.h5 --pairs 1 --method power --shift=-0.5 --scheduler local --cores-per-node 2 \
+  --node-memory 4G --out shift.sh >/dev/null
+grep -qx 'solve_args+=(--shift=-0.5)' shift.sh || fail "shift.sh does not pass --shift=-0.5"
 
 # Malformed options: exit 2 and a message naming the option.
 expect_usage() {
@@ -54,6 +77,9 @@ expect_usage "--scheduler" --pairs 2 --scheduler lsf --cores-per-node 4 --node-m
 expect_usage "--method 'fast'" "${base[@]}" --node-memory 8G --method fast
 expect_usage "--job-name 'a b'" "${base[@]}" --node-memory 8G --job-name 'a b' --out x.sh
 expect_usage "--pairs" --scheduler slurm --cores-per-node 4 --node-memory 8G
+# What the solve would refuse, plan refuses too.
+expect_usage "no guard vector beyond --pairs 2" "${base[@]}" --node-memory 8G --block-size 2
+expect_usage "--method chebyshev does not take --shift" "${base[@]}" --node-memory 8G --method chebyshev --shift 1
 [ ! -e x.sh ] || fail "a refused plan wrote a script"
 
 # A file that is not there, and one that is not a matrix: exit 1.
