@@ -10,10 +10,12 @@
 #
 # The solve: block iteration for the 2 largest eigenvalues of a dense symmetric matrix
 # with eigenvalues 1, r, r^2, ... (r = 0.999). Its number of matrix products (about
-# 17000) does not depend on the matrix order, so the order sets the time (as n^2): order
-# 5000 needs about 2.5 minutes on 2 ranks of an idle 2-core machine here (order 3000
-# took 51 s once dense block products became one BLAS-3 product per rank's piece, and
-# finished before Slurm's signal), while Slurm signals a job 30-60 s after it starts.
+# 17000) does not depend on the matrix order, so the order sets the time (as n^2), while
+# Slurm signals a job 30-60 s after it starts. Order 3000 took 51 s once dense block
+# products became one BLAS-3 product per rank's piece, and finished before the signal;
+# order 5000 then needed about 2.5 minutes beside the rest of the suite, but only 60 s
+# on a quiet machine on 2026-12-05, and finished unsignalled too. Order 7000 needs about
+# twice that.
 # `lodestone calibrate` on an order-300 matrix of the same spectrum gives the plan the
 # real convergence (its matvecs per pair), so the script's requeue limit covers the chain. The daemons are
 # stopped on exit.
@@ -33,7 +35,7 @@ trap 'exit 143' TERM INT
 job=""
 log() { cat "$tmp"/e2e-*.out 2>/dev/null || true; }
 fail() { echo "FAIL: $*" >&2; echo "--- job log ---" >&2; log >&2; exit 1; }
-n="${SLURM_E2E_ORDER:-5000}"
+n="${SLURM_E2E_ORDER:-7000}"
 
 timeout 300 "$LODESTONE_SOURCE/scripts/local-slurm" start >/dev/null
 export SLURM_CONF="$LOCAL_SLURM_DIR/slurm.conf"
