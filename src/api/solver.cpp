@@ -13,6 +13,7 @@
 
 #include "algebra/operator.hpp"
 #include "methods/method.hpp"
+#include "state/history_cap.hpp"
 #include "state/solve_session.hpp"
 #include "support/collective.hpp"
 #include "support/format.hpp"
@@ -163,6 +164,7 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     progress.maybe_print(h.seconds, h.iteration, h.matvecs, h.converged, h.residuals,
                          options.tolerance * problem.norm_estimate * unscale);
     result.history.push_back(std::move(h));
+    state::cap_history(result.history);
   };
   stage.emplace("Iterate");
   if (!*resumed) record();

@@ -9,6 +9,7 @@
 #include "algebra/operator.hpp"
 #include "io/generators.hpp"
 #include "methods/method.hpp"
+#include "state/history_cap.hpp"
 #include "state/stop_signals.hpp"
 #include "test_solver_matrices.hpp"
 
@@ -107,6 +108,37 @@ TEST(SolverApi, AStopSignalDuringTheLoadStopsAtTheFirstBoundary) {
   ASSERT_FALSE(r.is_ok());
   EXPECT_EQ(r.status().kind(), ErrorKind::stopped) << r.status().message();
   EXPECT_TRUE(checkpoint_exists(comm, o.checkpoint.path));
+}
+
+TEST(SolverApi, HistoryCapKeepsFirstAndLastAndOrder) {
+  std::vector<HistoryRecord> h;
+  for (std::int64_t i = 0; i < 1000; ++i) {
+    HistoryRecord r;
+    r.iteration = i;
+    h.push_back(r);
+    state::cap_history(h, 50);
+    ASSERT_LE(h.size(), 50u);
+    EXPECT_EQ(h.front().iteration, 0);
+    EXPECT_EQ(h.back().iteration, i);
+  }
+  for (std::size_t j = 1; j < h.size(); ++j) EXPECT_LT(h[j - 1].iteration, h[j].iteration);
+  EXPECT_GE(h.size(), 25u);  // thinning halves, no more
+}
+
+// A one-vector method records thousands of boundaries a second; the history (on
+// every rank, and in every checkpoint) stays within its cap and still ends at the end.
+TEST(SolverApi, LongRunsKeepABoundedHistory) {
+  Matrix m = laplace1d(200);
+  auto o = test::quiet_options(1, "power", "largest");
+  o.max_matvecs = 3 * static_cast<std::int64_t>(state::kHistoryCap);
+  auto r = solve(m, o);
+  ASSERT_TRUE(r.is_ok()) << r.status().message();
+  ASSERT_GT(r->iterations, static_cast<std::int64_t>(state::kHistoryCap));
+  EXPECT_LE(r->history.size(), state::kHistoryCap);
+  EXPECT_EQ(r->history.front().iteration, 0);
+  EXPECT_EQ(r->history.back().iteration, r->iterations);
+  EXPECT_GE(r->history.back().matvecs, o.max_matvecs);  // the last record is where the budget ran out
+  EXPECT_LE(r->history.back().matvecs, r->matvecs);     // (the result adds extraction's products)
 }
 
 TEST(SolverApi, BudgetKeepsConvergedPairs) {
