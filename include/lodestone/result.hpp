@@ -57,6 +57,9 @@ struct SolveResult {
   std::uint64_t matrix_fingerprint = 0;
   double elapsed_seconds = 0;
   std::vector<HistoryRecord> history;
+  // Why the method stopped before K pairs converged when it could make no further
+  // progress (one sentence); empty otherwise. Not stored in the results file.
+  std::string stall_reason;
 
   std::int64_t pairs() const { return static_cast<std::int64_t>(eigenvalues.size()); }
   std::int64_t local_rows() const { return row_end - row_begin; }

@@ -45,10 +45,11 @@ struct SolveOptions {
   std::function<void(const std::string&)> note;
 };
 
-// Collective. Finds the pairs. On a matvec budget that runs out the result holds
+// Collective. Finds the pairs. When the matvec budget runs out, or the method
+// can make no further progress (result.stall_reason says why), the result holds
 // what converged (result.converged < pairs) and is still returned as a value;
-// the caller decides how to report it. Errors (bad options, a method that cannot
-// make progress) come back as Status.
+// the caller decides how to report it. Errors (bad options, bad input) come back
+// as Status.
 Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options);
 
 }  // namespace lodestone

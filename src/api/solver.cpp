@@ -25,13 +25,6 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
-Result<methods::Selection> parse_selection(const std::string& s) {
-  if (s == "magnitude") return methods::Selection::magnitude;
-  if (s == "largest") return methods::Selection::largest;
-  if (s == "smallest") return methods::Selection::smallest;
-  return Status::usage(fmt::format("unknown selection '{}' (magnitude, largest or smallest)", s));
-}
-
 // Progress lines on rank 0: every few seconds, never every iteration, one line each.
 class ProgressReporter {
  public:
@@ -84,15 +77,13 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   const auto t0 = Clock::now();
   MPI_Comm comm = matrix.comm();
   const MatrixInfo& info = matrix.info();
-  auto selection = parse_selection(options.selection);
+  auto selection = methods::parse_selection(options.selection);
   if (!selection) return selection.status();
   if (options.pairs < 1) return Status::usage("--pairs must be at least 1");
   if (options.pairs > info.rows)
     return Status::usage(fmt::format("--pairs {} exceeds the matrix order {}", options.pairs, info.rows));
   if (!(options.tolerance > 0 && options.tolerance < 1))
     return Status::usage("--tol must be between 0 and 1");
-  if (*selection == methods::Selection::smallest && !info.symmetric)
-    return Status::usage("--select smallest needs a symmetric matrix (this one is not declared symmetric)");
   std::string method_name = options.method;
   if (method_name == "auto") {
     method_name = info.symmetric ? "chebyshev" : "krylov";
@@ -103,7 +94,8 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   const methods::MethodInfo* entry = methods::find_method(method_name);
   if (!entry)
     return Status::usage(fmt::format("unknown method '{}' (auto, {})", options.method, methods::method_names()));
-  LODESTONE_TRY(methods::check_fit(*entry, info.symmetric, options.pairs, options.block_size, options.has_shift));
+  LODESTONE_TRY(methods::check_fit(*entry, {info.symmetric, *selection, options.pairs, options.block_size,
+                                             options.has_shift}));
 
   std::optional<LogStage> stage(std::in_place, "Set up");
   auto norm = algebra::norm_estimate(matrix.petsc());
@@ -138,6 +130,7 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   problem.seed = options.seed;
   problem.has_shift = options.has_shift;
   problem.shift = options.shift / unscale;
+  problem.value_scale = unscale;
 
   algebra::Operator op(scaled.m ? scaled.m : matrix.petsc());
   auto method = entry->make();
@@ -174,6 +167,8 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     LODESTONE_TRY(method->step());
     record();
     LODESTONE_TRY((*session)->boundary(*method, op, result.history, options.pairs, elapsed(), elapsed() - step_start));
+    result.stall_reason = method->stall_reason();
+    if (!result.stall_reason.empty()) break;
   }
 
   stage.emplace("Extract pairs");

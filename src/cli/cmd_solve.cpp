@@ -117,6 +117,9 @@ Command make_solve_command(CLI::App& root) {
             if (!args->quiet) print_once(comm, closing_table(*r));
             if (r->converged < o.pairs) {
               const std::string kept = args->out.empty() ? "" : "; " + args->out + " holds them";
+              if (!r->stall_reason.empty())
+                return Status::budget(fmt::format("{} of {} pairs converged; {}{}", r->converged, o.pairs,
+                                                  r->stall_reason, kept));
               if (o.max_matvecs > 0 && r->matvecs >= o.max_matvecs)
                 return Status::budget(fmt::format("the matvec budget ({}) ran out with {} of {} pairs converged{}",
                                                   o.max_matvecs, r->converged, o.pairs, kept));

@@ -28,6 +28,8 @@ namespace lodestone::methods {
 
 enum class Selection { magnitude, largest, smallest };
 const char* selection_name(Selection s);
+// "magnitude", "largest" or "smallest"; a usage error naming --select otherwise.
+Result<Selection> parse_selection(std::string_view s);
 
 struct Problem {
   bool symmetric = false;
@@ -39,6 +41,7 @@ struct Problem {
   std::uint64_t seed = 0;
   bool has_shift = false;        // power and block: iterate with A - shift*I
   double shift = 0.0;
+  double value_scale = 1.0;      // the input's eigenvalues are value_scale times these (for messages)
 };
 
 // Everything a method needs to continue later, possibly on another rank count.
@@ -74,6 +77,10 @@ class Method {
   // Collective. Save and restore the whole state; restore() replaces setup().
   virtual Status save(MethodState& state) = 0;
   virtual Status restore(algebra::Operator& op, const Problem& problem, MethodState& state) = 0;
+  // Non-empty once the method can make no further progress on the pairs still
+  // wanted: why, in one sentence for a person. The caller then stops and extracts
+  // what converged. Replicated (every rank decides alike).
+  virtual std::string stall_reason() const { return {}; }
 };
 
 // The registry: adding a method is one more entry of the same shape. An entry
@@ -87,15 +94,26 @@ struct MethodInfo {
   // Columns a given --block-size must hold beyond --pairs (a guard vector, say);
   // -1 for a one-vector method, which ignores --block-size.
   int block_beyond_pairs;
+  // Orders a non-symmetric matrix's eigenvalues by real part, as --select largest
+  // asks. Power and block iterate with A + ||A|| I and so rank by |lambda + ||A|||,
+  // which puts a complex pair with a large imaginary part ahead of a larger real one.
+  bool ranks_by_real_part;
   std::unique_ptr<Method> (*make)();
 };
 const std::vector<MethodInfo>& registry();
 const MethodInfo* find_method(std::string_view name);
 // "power, block, chebyshev or krylov", for messages.
 std::string method_names();
+// What a run asks of a method, as far as check_fit() can judge before any product.
+struct FitRequest {
+  bool symmetric = false;  // the matrix is declared symmetric
+  Selection selection = Selection::magnitude;
+  std::int64_t pairs = 1;
+  std::int64_t block_size = 0;  // 0: the method chooses
+  bool has_shift = false;
+};
 // A usage error naming the first thing this method cannot serve; ok otherwise.
-// block_size 0 means "the method chooses".
-Status check_fit(const MethodInfo& m, bool symmetric, std::int64_t pairs, std::int64_t block_size, bool has_shift);
+Status check_fit(const MethodInfo& m, const FitRequest& r);
 
 std::unique_ptr<Method> make_power();
 std::unique_ptr<Method> make_block();

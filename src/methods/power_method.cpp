@@ -7,10 +7,13 @@
 // restart vector keeps the last iterate's part orthogonal to the locked set and
 // adds a fresh hashed random part. A single vector cannot converge when the
 // dominant remaining eigenvalue is complex or shares its modulus with another;
-// that is detected from a residual that stops shrinking, and reported.
+// that is detected from a residual that stops shrinking, and the run then stops
+// with the pairs converged so far and a reason (stall_reason()).
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
+#include <string>
 
 #include "methods/subspace.hpp"
 #include "support/collective.hpp"
@@ -18,7 +21,12 @@
 namespace lodestone::methods {
 namespace {
 
-constexpr int kWindow = 60;  // iterations per stagnation window
+constexpr int kWindow = 60;         // iterations per stagnation window
+constexpr int kFloorWindows = 5;    // flat windows at the rounding level before giving up
+constexpr int kFlatWindows = 50;    // flat windows of any other kind before giving up
+// Two real eigenvalues this close in |lambda - shift| converge slower than 3 % a
+// window (0.9995^60 = 0.97): above it they count as tied.
+constexpr double kTieRatio = 0.9995;
 
 class PowerMethod final : public SubspaceMethod {
  public:
@@ -58,6 +66,7 @@ class PowerMethod final : public SubspaceMethod {
     have_next_ = true;
     window_best_ = prev_best_ = INFINITY;
     since_lock_ = 0;
+    flat_windows_ = 0;
     return lock(1);
   }
 
@@ -79,6 +88,12 @@ class PowerMethod final : public SubspaceMethod {
     return orthonormalize_active();
   }
 
+  // At the end of each window whose best residual did not shrink by 3 %: a
+  // Rayleigh-Ritz step on span{x, (I - QQ^T) A x} (two extra products) names the
+  // two eigenvalues competing for the vector. A complex pair, or two of (nearly)
+  // equal |lambda - shift|, cannot be separated by one vector: that stops the run
+  // with what has converged. Two distinct ones are a slow hand-over, which a ratio
+  // below kTieRatio finishes at better than 3 % a window; it goes on.
   Status watch_stagnation() {
     ++since_lock_;
     window_best_ = std::min(window_best_, ritz_res_[0]);
@@ -87,32 +102,100 @@ class PowerMethod final : public SubspaceMethod {
     const double before = prev_best_;
     prev_best_ = best;
     window_best_ = INFINITY;
-    const double relative = best / problem_.norm_estimate;
-    if (!(std::isfinite(before) && best > 0.97 * before && relative > 1e-3)) return Status::ok();
-    // A slow hand-over between two close eigenvalues also plateaus, but then the
-    // iterate still behaves like one eigenvector: ||(A - sigma) x|| ~ |theta - sigma|.
-    // Two eigenvalues of equal modulus (or a complex pair) make the growth exceed it.
-    const double wn = algebra::column_norms(w_)[0];
-    const double theta = ritz_re_[0];
-    const double growth = std::sqrt(std::max(0.0, wn * wn - 2.0 * sigma_ * theta + sigma_ * sigma_));
-    const double ratio = growth / std::max(std::fabs(theta - sigma_), 1e-300);
-    if (ratio > 1.01) {
-      return Status::input(fmt::format(
-          "the power method stalled on pair {}: after {} iterations its residual is still {:.3e} "
-          "({:.1e} of ||A||_est) and no longer shrinking, while ||(A - shift) x|| is {:.3g} times the "
-          "Rayleigh quotient. The dominant remaining eigenvalue is complex, or shares its modulus with "
-          "another (+-lambda); one vector cannot separate them. Use --method block.",
-          locked_ + 1, since_lock_, best, relative, ratio));
+    if (!(std::isfinite(before) && best > 0.97 * before)) {
+      flat_windows_ = 0;
+      return Status::ok();
     }
+    ++flat_windows_;
+    auto two = leading_two();
+    if (!two) return two.status();
+    const double k = problem_.value_scale;
+    const double relative = best / problem_.norm_estimate;
+    const std::string head = fmt::format("the power method stopped on pair {} after {} iterations on it", locked_ + 1,
+                                         since_lock_);
+    if (two->at_floor) {
+      if (flat_windows_ >= kFloorWindows)
+        stall_ = fmt::format("{}: its residual, {:.3e} ({:.1e} of ||A||_est), no longer shrinks at the rounding "
+                             "level; --tol {:.1e} is below what double precision reaches for this matrix",
+                             head, best * k, relative, problem_.tolerance);
+      return Status::ok();
+    }
+    if (two->im > 0) {
+      stall_ = fmt::format("{}: the dominant remaining eigenvalues are the complex pair {:.6g} +- {:.6g}i, which "
+                           "one real vector cannot converge to: use --method block or krylov",
+                           head, two->re[0] * k, two->im * k);
+      return Status::ok();
+    }
+    const double d0 = std::fabs(two->re[0] - sigma_), d1 = std::fabs(two->re[1] - sigma_);
+    const double ratio = std::min(d0, d1) / std::max({d0, d1, 1e-300});
+    if (ratio >= kTieRatio) {
+      const std::string apart = sigma_ == 0.0 ? std::string("have (nearly) the same modulus")
+                                              : fmt::format("are (nearly) equally far from {:.6g}", sigma_ * k);
+      stall_ = fmt::format("{}: the dominant remaining eigenvalues {:.6g} and {:.6g} {} (ratio {:.6f}), which one "
+                           "vector separates too slowly or never: use --method block or krylov",
+                           head, two->re[0] * k, two->re[1] * k, apart, ratio);
+      return Status::ok();
+    }
+    if (flat_windows_ >= kFlatWindows)
+      stall_ = fmt::format("{}: its residual, {:.3e} ({:.1e} of ||A||_est), has not shrunk over {} iterations: "
+                           "use --method block or krylov",
+                           head, best * k, relative, flat_windows_ * kWindow);
     return Status::ok();
   }
 
+  // The two eigenvalues of the Rayleigh-Ritz step described above (re[0], re[1]
+  // when real; re[0] +- im i when complex), or at_floor when x is an eigenvector
+  // to rounding, with no second direction to look in.
+  struct LeadingTwo {
+    bool at_floor = false;
+    double re[2] = {0, 0};
+    double im = 0;
+  };
+  Result<LeadingTwo> leading_two() {
+    LeadingTwo out;
+    auto y = algebra::Block::like(op_->mat(), 1);
+    if (!y) return y.status();
+    algebra::copy_columns(w_, 0, *y, 0, 1);
+    if (locked_ > 0) algebra::project_out(q_, locked_, *y);
+    for (int pass = 0; pass < 2; ++pass) algebra::combine(*y, 1.0, x_, -algebra::gram(x_, *y)(0, 0));
+    const double rho = algebra::column_norms(*y)[0];
+    if (!(rho > 1e-11 * problem_.norm_estimate)) {
+      out.at_floor = true;
+      return out;
+    }
+    auto v = algebra::Block::like(op_->mat(), 2);
+    if (!v) return v.status();
+    auto av = algebra::Block::like(op_->mat(), 2);
+    if (!av) return av.status();
+    algebra::copy_columns(x_, 0, *v, 0, 1);
+    algebra::copy_columns(*y, 0, *v, 1, 1);
+    algebra::combine(*v, 1.0 / rho, *v, 0.0, 1, 1, 1);
+    LODESTONE_TRY(agree(comm_, op_->apply(*v, *av)));
+    algebra::Small h = algebra::gram(*v, *av);
+    if (problem_.symmetric) h(0, 1) = h(1, 0) = 0.5 * (h(0, 1) + h(1, 0));
+    const double half = 0.5 * (h(0, 0) + h(1, 1));
+    const double gap = 0.5 * (h(0, 0) - h(1, 1));
+    const double disc = gap * gap + h(0, 1) * h(1, 0);  // (trace/2)^2 - det
+    if (disc < 0) {
+      out.re[0] = out.re[1] = half;
+      out.im = std::sqrt(-disc);
+    } else {
+      out.re[0] = half + std::sqrt(disc);
+      out.re[1] = half - std::sqrt(disc);
+    }
+    return out;
+  }
+
+  std::string stall_reason() const override { return stall_; }
+
   void save_extra(MethodState& s) const override {
-    s.scalars["power_window"] = {prev_best_, window_best_, static_cast<double>(since_lock_)};
+    s.scalars["power_window"] = {prev_best_, window_best_, static_cast<double>(since_lock_),
+                                 static_cast<double>(flat_windows_)};
   }
   Status restore_extra(MethodState& s) override {
     auto w = s.scalars["power_window"];
-    if (w.size() == 3) prev_best_ = w[0], window_best_ = w[1], since_lock_ = static_cast<std::int64_t>(w[2]);
+    if (w.size() >= 3) prev_best_ = w[0], window_best_ = w[1], since_lock_ = static_cast<std::int64_t>(w[2]);
+    if (w.size() >= 4) flat_windows_ = static_cast<int>(w[3]);
     return Status::ok();
   }
 
@@ -120,6 +203,8 @@ class PowerMethod final : public SubspaceMethod {
   bool have_next_ = false;
   double prev_best_ = INFINITY, window_best_ = INFINITY;
   std::int64_t since_lock_ = 0;
+  int flat_windows_ = 0;  // consecutive windows without a 3 % gain
+  std::string stall_;
 };
 
 }  // namespace

@@ -72,9 +72,7 @@ Status check_request(const PlanRequest& r) {
   if (r.method != "auto" && !methods::find_method(r.method))
     return Status::usage(fmt::format("--method '{}': expected auto, {}", r.method, methods::method_names()));
   if (r.block_size < 0) return Status::usage("--block-size must be at least 1");
-  const std::string& sel = r.solve.selection;
-  if (!sel.empty() && sel != "magnitude" && sel != "largest" && sel != "smallest")
-    return Status::usage(fmt::format("--select '{}': expected magnitude, largest or smallest", sel));
+  if (!r.solve.selection.empty()) LODESTONE_TRY(methods::parse_selection(r.solve.selection).status());
   if (r.solve.tolerance != 0 && !(r.solve.tolerance > 0 && r.solve.tolerance < 1))
     return Status::usage("--tol must be between 0 and 1");
   if (r.solve.has_shift && !std::isfinite(r.solve.shift)) return Status::usage("--shift must be a finite number");
@@ -226,10 +224,11 @@ Result<Plan> make_plan(MPI_Comm comm, const PlanRequest& r) {
     method = f.symmetric ? "chebyshev" : "krylov";
     p.method_reason = f.symmetric ? "auto: the matrix is symmetric" : "auto: the matrix is not symmetric";
   }
-  LODESTONE_TRY(methods::check_fit(*methods::find_method(method), f.symmetric, r.pairs, r.block_size,
-                                    r.solve.has_shift));
-  if (r.solve.selection == "smallest" && !f.symmetric)
-    return Status::usage("--select smallest needs a symmetric matrix (this one is not declared symmetric)");
+  auto parsed = methods::parse_selection(r.solve.selection.empty() ? "magnitude" : r.solve.selection);
+  if (!parsed) return parsed.status();
+  const methods::Selection selection = *parsed;
+  LODESTONE_TRY(methods::check_fit(*methods::find_method(method),
+                                    {f.symmetric, selection, r.pairs, r.block_size, r.solve.has_shift}));
   p.block_given = r.block_size;
   p.solve = r.solve;
   const MethodShape s = plan::method_shape(method, r.pairs, r.block_size);

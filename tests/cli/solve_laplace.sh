@@ -60,6 +60,15 @@ expect 0 "" run 1 "$LODESTONE" verify "$tmp/plate.h5" "$tmp/budget.h5"
 # The single-vector method stopped by its budget writes what it has too.
 expect 4 "matvec budget (30) ran out" run 2 "$LODESTONE" solve "$tmp/plate.h5" --pairs 3 --method power --max-matvecs 30 --out "$tmp/budget-power.h5"
 [ -f "$tmp/budget-power.h5" ] || fail "no results file after the power method's budget ran out"
+# Eigenvalues +10 and -10 (closed form: a 2x2 block [[0, 10], [10, 0]] beside 1 and 2): one
+# vector cannot separate them. Power stops by itself with status 4, names both, keeps the file.
+printf '%s\n' '%%MatrixMarket matrix coordinate real symmetric' '4 4 3' '2 1 10' '3 3 1' '4 4 2' >"$tmp/tie.mtx"
+expect 0 "" run 1 "$LODESTONE" import "$tmp/tie.mtx" "$tmp/tie.h5"
+expect 4 "10 and -10 have (nearly) the same modulus" run 2 "$LODESTONE" solve "$tmp/tie.h5" --pairs 2 --method power \
+  --quiet --out "$tmp/tie.r.h5"
+[ -f "$tmp/tie.r.h5" ] || fail "no results file after power stopped on the +-10 tie"
+run 2 "$LODESTONE" solve "$tmp/tie.h5" --pairs 2 --method block --quiet --out "$tmp/tie.b.h5" || fail "block on the tie"
+expect 0 "verified" run 1 "$LODESTONE" verify "$tmp/tie.h5" "$tmp/tie.b.h5"
 # No budget, but block's own test accepts pairs whose residuals, computed afresh at the end,
 # are just above a tight tolerance (a 4000-node walk at 1e-9): exit 4, and the message says
 # so instead of blaming a budget that was never set.

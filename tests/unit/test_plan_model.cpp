@@ -118,10 +118,11 @@ TEST(PlanModel, IterationTimeByHand) {
 }
 
 namespace {
-std::string write_laplace1d(MPI_Comm comm, std::int64_t n) {
-  const std::string path = test::temp_path(comm, "plan-model.h5");
+// declared_symmetric false: the same entries, declared not symmetric.
+std::string write_laplace1d(MPI_Comm comm, std::int64_t n, bool declared_symmetric = true) {
+  const std::string path = test::temp_path(comm, declared_symmetric ? "plan-model.h5" : "plan-model-ns.h5");
   auto rows = io::generate_laplace1d(comm, n);
-  EXPECT_TRUE(io::write_csr_file(comm, path, "/matrix", n, true, rows).is_ok());
+  EXPECT_TRUE(io::write_csr_file(comm, path, "/matrix", n, declared_symmetric, rows).is_ok());
   return path;
 }
 }  // namespace
@@ -281,6 +282,18 @@ TEST(PlanModel, RefusesWhatTheSolveWouldRefuse) {
   EXPECT_EQ(refusal("block", 4), "(planned)");
   EXPECT_EQ(refusal("power", 1), "(planned)");  // one vector: --block-size does not apply
   EXPECT_NE(refusal("lanczos", 0).find("expected auto, power, block, chebyshev or krylov"), std::string::npos);
+  r.solve.selection = "sideways";
+  EXPECT_NE(refusal("block", 0).find("--select 'sideways': expected magnitude, largest or smallest"),
+            std::string::npos);
+  r.matrix_path = write_laplace1d(comm, 100, false);
+  r.solve.selection = "smallest";
+  EXPECT_NE(refusal("krylov", 0).find("--select smallest needs a symmetric matrix"), std::string::npos);
+  r.solve.selection = "largest";
+  EXPECT_NE(refusal("block", 0).find("--select largest on a matrix not declared symmetric needs --method krylov"),
+            std::string::npos);
+  EXPECT_NE(refusal("power", 0).find("needs --method krylov"), std::string::npos);
+  EXPECT_EQ(refusal("krylov", 0), "(planned)");
+  EXPECT_EQ(refusal("auto", 0), "(planned)");
 }
 
 TEST(PlanModel, MoreNodesWhenTheyCutChainedJobs) {

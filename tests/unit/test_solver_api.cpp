@@ -49,11 +49,26 @@ TEST(SolverApi, RefusesWhatNonSymmetricInputCannotDo) {
   auto c = solve(*m, test::quiet_options(9, "block", "magnitude"));
   ASSERT_FALSE(c.is_ok());
   EXPECT_NE(c.status().message().find("exceeds the matrix order"), std::string::npos);
+  // Power and block rank by |lambda + ||A|||, not by real part: largest is krylov's alone here.
+  for (const char* method : {"power", "block"}) {
+    auto e = solve(*m, test::quiet_options(2, method, "largest"));
+    ASSERT_FALSE(e.is_ok()) << method;
+    EXPECT_EQ(e.status().kind(), ErrorKind::usage);
+    EXPECT_NE(e.status().message().find("--select largest on a matrix not declared symmetric needs --method krylov"),
+              std::string::npos) << e.status().message();
+  }
+  auto f = solve(*m, test::quiet_options(2, "krylov", "sideways"));
+  ASSERT_FALSE(f.is_ok());
+  EXPECT_EQ(f.status().kind(), ErrorKind::usage);
+  EXPECT_NE(f.status().message().find("--select 'sideways': expected magnitude, largest or smallest"),
+            std::string::npos);
   // An upper triangular matrix: its eigenvalues are its diagonal, 8, 7, ... (largest real part first).
-  auto d = solve(*m, test::quiet_options(2, "block", "largest"));
-  ASSERT_TRUE(d.is_ok()) << d.status().message();
-  EXPECT_NEAR(d->eigenvalues[0], 8.0, 1e-7);
-  EXPECT_NEAR(d->eigenvalues[1], 7.0, 1e-7);
+  for (const char* method : {"krylov", "auto"}) {
+    auto d = solve(*m, test::quiet_options(2, method, "largest"));
+    ASSERT_TRUE(d.is_ok()) << d.status().message();
+    EXPECT_NEAR(d->eigenvalues[0], 8.0, 1e-7);
+    EXPECT_NEAR(d->eigenvalues[1], 7.0, 1e-7);
+  }
 }
 
 TEST(SolverApi, ChebyshevNeedsAGuardVector) {
