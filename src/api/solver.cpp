@@ -107,6 +107,14 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   // the exponent from rank 0's estimate.
   double est = *norm;
   MPI_Bcast(&est, 1, MPI_DOUBLE, 0, comm);
+  // Sums of entries near the top of the double range overflow: there is no finite
+  // ||A||_est to scale by or to set the tolerance against (and the eigenvalues may
+  // be out of range too). Said plainly rather than solved with a meaningless test.
+  if (!std::isfinite(est))
+    return Status::input(fmt::format(
+        "the matrix's row or column sums overflow double precision (||A||_est = sqrt(||A||_1 ||A||_inf) is "
+        "{}), so its eigenvalues may be too and no tolerance can be set relative to it; scale the matrix down "
+        "by a power of two such as 2^-64 (its eigenvalues scale by the same factor, exactly)", est));
   const double unscale = algebra::extreme_scale(est);
   struct OwnedMat {
     Mat m = nullptr;

@@ -218,6 +218,25 @@ TEST(HostileMatrices, ExtremeScales) {
   }
 }
 
+// Entries of 1e307, twenty to a row: every row and column sum overflows, so there is
+// no finite ||A||_est. Refused with a reason, on every rank alike, not solved against
+// an infinite tolerance.
+TEST(HostileMatrices, NormBeyondTheDoubleRangeIsRefused) {
+  const std::int64_t n = 40;
+  auto m = test::build_aij(MPI_COMM_WORLD, n, false, [n](std::int64_t i, test::Entries& e) {
+    for (std::int64_t k = 0; k < 20; ++k) e.push_back({(i + k) % n, 1e307});
+  });
+  ASSERT_TRUE(m.is_ok()) << m.status().message();
+  for (const char* method : {"power", "krylov"}) {
+    SCOPED_TRACE(method);
+    auto r = run(*m, 1, method, "magnitude");
+    ASSERT_FALSE(r.is_ok());
+    EXPECT_EQ(r.status().kind(), ErrorKind::input);
+    EXPECT_NE(r.status().message().find("sums overflow double precision"), std::string::npos)
+        << r.status().message();
+  }
+}
+
 // Empty rows and columns: diag(3, 0, 0, B, 0, 0) with B = [[2, .5], [.5, 1]] in
 // rows 3 and 5 (rows 1, 2, 4, 6, 7 empty). Eigenvalues 3, 3/2 +- sqrt(2)/2 (closed
 // form of a symmetric 2 x 2 matrix: (a+d)/2 +- sqrt(((a-d)/2)^2 + b^2)) and zeros.
