@@ -238,3 +238,30 @@ TEST(MethodNonsymmetric, UnconvergedPairsKeepTheirLockedPart) {
     EXPECT_NEAR(test::recomputed_residual(*m, *r, j), r->residual_norms[j], 1e-8 + 1e-6 * r->residual_norms[j]);
   }
 }
+
+// Eigenvalues -5 +- 60i, -6 +- 59i and 10 (closed form: the 2x2 blocks [[a, b], [-b, a]]
+// have eigenvalues a +- bi). By real part 10 comes first, although the complex pairs
+// are six times larger in modulus; krylov ranks it so, and power and block refuse
+// the request rather than answer with the pairs largest in |lambda + ||A|||.
+TEST(MethodNonsymmetric, LargestRealPartAheadOfLargeComplexPairs) {
+  auto rule = [](std::int64_t i, test::Entries& e) {
+    const double a = i < 2 ? -5.0 : -6.0, b = i < 2 ? 60.0 : 59.0;
+    if (i == 0 || i == 2) e.push_back({i, a}), e.push_back({i + 1, b});
+    if (i == 1 || i == 3) e.push_back({i - 1, -b}), e.push_back({i, a});
+    if (i == 4) e.push_back({4, 10.0});
+  };
+  auto m = test::build_aij(MPI_COMM_WORLD, 5, false, rule);
+  ASSERT_TRUE(m.is_ok());
+  auto r = solve(*m, test::quiet_options(3, "krylov", "largest"));
+  ASSERT_TRUE(r.is_ok()) << r.status().message();
+  EXPECT_EQ(r->converged, 3);
+  EXPECT_NEAR(r->eigenvalues[0], 10.0, 1e-7);
+  EXPECT_EQ(r->eigenvalues_imag[0], 0.0);
+  EXPECT_NEAR(r->eigenvalues[1], -5.0, 1e-7);
+  EXPECT_NEAR(std::fabs(r->eigenvalues_imag[1]), 60.0, 1e-7);
+  for (const char* method : {"power", "block"}) {
+    auto refused = solve(*m, test::quiet_options(1, method, "largest"));
+    ASSERT_FALSE(refused.is_ok()) << method;
+    EXPECT_EQ(refused.status().kind(), ErrorKind::usage);
+  }
+}
