@@ -165,7 +165,9 @@ run 2 "$LODESTONE" solve "$tmp/mid.h5" --pairs 5 --select largest --method block
 [[ "$rc" == 1 ]] && grep -q "option 'pairs' was 4 in the checkpoint but is 5 now" "$tmp/ref.out" \
   || { cat "$tmp/ref.out"; fail "different --pairs: exit $rc"; }
 rc=0
-run 2 "$LODESTONE" solve "$tmp/ns.h5" "${SYM[@]}" --checkpoint "$ck" --resume --out "$tmp/x.h5" >"$tmp/ref.out" 2>&1 || rc=$?
+# (The matrix is checked first; --select largest, which non-symmetric input refuses for block, is left out.)
+run 2 "$LODESTONE" solve "$tmp/ns.h5" --pairs 4 --method block --checkpoint "$ck" --resume --out "$tmp/x.h5" \
+  >"$tmp/ref.out" 2>&1 || rc=$?
 [[ "$rc" == 1 ]] && grep -q "different matrix" "$tmp/ref.out" || { cat "$tmp/ref.out"; fail "different matrix: exit $rc"; }
 # A larger matrix (a finer mesh saved under the same name, say): the same plain message,
 # not a complaint about row ranges.
