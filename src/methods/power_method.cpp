@@ -140,8 +140,10 @@ class PowerMethod final : public SubspaceMethod {
     const double d0 = std::fabs(two->re[0] - sigma_), d1 = std::fabs(two->re[1] - sigma_);
     const double ratio = std::min(d0, d1) / std::max({d0, d1, 1e-300});
     if (ratio >= kTieRatio) {
-      const std::string apart = sigma_ == 0.0 ? std::string("have (nearly) the same modulus")
-                                              : fmt::format("are (nearly) equally far from {:.6g}", sigma_ * k);
+      std::string apart = sigma_ == 0.0 ? std::string("have (nearly) the same modulus")
+                                        : fmt::format("are (nearly) equally far from {:.6g}", sigma_ * k);
+      if (sigma_ != 0.0 && !problem_.has_shift)
+        apart += fmt::format(", the shift power uses for --select {}", selection_name(problem_.selection));
       stall_ = fmt::format("{}: the dominant remaining eigenvalues {:.6g} and {:.6g} {} (ratio {:.6f}), which one "
                            "vector separates too slowly or never: use --method block or krylov",
                            head, two->re[0] * k, two->re[1] * k, apart, ratio);
