@@ -115,7 +115,7 @@ case "$status" in
     echo "lodestone job: finished; all $pairs pairs converged; results in $result" >&2
     exit 0 ;;
   4)
-    echo "lodestone job: fewer pairs converged than asked (the matvec budget ran out, or residuals checked at the end missed the tolerance); $result holds every pair with its residual. Not resubmitting." >&2
+    echo "lodestone job: fewer pairs converged than asked (the matvec budget ran out, power met eigenvalues one vector cannot separate, or residuals checked at the end missed the tolerance); $result holds every pair with its residual. Not resubmitting." >&2
     exit 4 ;;
   1)
     echo "lodestone job: the solver failed (status 1: bad input or a runtime error; see the messages above). Not resubmitting." >&2

@@ -72,8 +72,9 @@ Command make_solve_command(CLI::App& root) {
   app->footer(
       "Exit status: 0 all K pairs converged, 1 input or runtime error, 2 usage error,\n"
       "3 stopped early by SIGTERM/SIGINT/SIGUSR1/SIGUSR2 or --time-budget (resume with --resume),\n"
-      "4 fewer than K pairs converged: the matvec budget ran out, or residuals checked at the end\n"
-      "  missed the tolerance (the results file holds every pair with its residual).\n"
+      "4 fewer than K pairs converged: the matvec budget ran out, power met eigenvalues one vector\n"
+      "  cannot separate (the message names them), or residuals checked at the end missed the\n"
+      "  tolerance (the results file holds every pair with its residual).\n"
       "PETSc options (e.g. -log_view) go after a lone --petsc.\n\n"
       "Examples:\n"
       "  lodestone solve plate.h5 --pairs 8 --select largest --out modes.h5\n"

@@ -150,7 +150,7 @@ std::string other_statuses() {
          "    echo \"lodestone job: finished; all $pairs pairs converged; results in $result\" >&2\n"
          "    exit 0 ;;\n"
          "  4)\n"
-         "    echo \"lodestone job: fewer pairs converged than asked (the matvec budget ran out, or residuals checked at the end missed the tolerance); $result holds every pair with its residual. Not resubmitting.\" >&2\n"
+         "    echo \"lodestone job: fewer pairs converged than asked (the matvec budget ran out, power met eigenvalues one vector cannot separate, or residuals checked at the end missed the tolerance); $result holds every pair with its residual. Not resubmitting.\" >&2\n"
          "    exit 4 ;;\n"
          "  1)\n"
          "    echo \"lodestone job: the solver failed (status 1: bad input or a runtime error; see the messages above). Not resubmitting.\" >&2\n"
