@@ -15,6 +15,7 @@
 #include <cmath>
 #include <string>
 
+#include "algebra/small_eigen.hpp"
 #include "methods/subspace.hpp"
 #include "support/collective.hpp"
 
@@ -156,7 +157,7 @@ class PowerMethod final : public SubspaceMethod {
     return Status::ok();
   }
 
-  // The two eigenvalues of the Rayleigh-Ritz step described above (re[0], re[1]
+  // The two eigenvalues of the Rayleigh-Ritz step described above (re[0] >= re[1]
   // when real; re[0] +- im i when complex), or at_floor when x is an eigenvector
   // to rounding, with no second direction to look in.
   struct LeadingTwo {
@@ -186,16 +187,11 @@ class PowerMethod final : public SubspaceMethod {
     LODESTONE_TRY(agree(comm_, op_->apply(*v, *av)));
     algebra::Small h = algebra::gram(*v, *av);
     if (problem_.symmetric) h(0, 1) = h(1, 0) = 0.5 * (h(0, 1) + h(1, 0));
-    const double half = 0.5 * (h(0, 0) + h(1, 1));
-    const double gap = 0.5 * (h(0, 0) - h(1, 1));
-    const double disc = gap * gap + h(0, 1) * h(1, 0);  // (trace/2)^2 - det
-    if (disc < 0) {
-      out.re[0] = out.re[1] = half;
-      out.im = std::sqrt(-disc);
-    } else {
-      out.re[0] = half + std::sqrt(disc);
-      out.re[1] = half - std::sqrt(disc);
-    }
+    auto schur = algebra::real_schur(comm_, h, [](double re, double im) { return std::hypot(re, im); });
+    if (!schur) return schur.status();
+    out.re[0] = std::max(schur->re[0], schur->re[1]);
+    out.re[1] = std::min(schur->re[0], schur->re[1]);
+    out.im = std::fabs(schur->im[0]);
     return out;
   }
 
