@@ -67,6 +67,10 @@ struct CheckpointPlan {
   std::vector<std::string> inputs;   // files the checkpoint must never overwrite
 };
 
+// Local. A usage error for options that need a checkpoint path when none is
+// given (solve() checks this too; a command line checks it before any file is read).
+Status check_checkpoint_plan(const CheckpointPlan& plan);
+
 // Takes the stop signals (SIGTERM, SIGINT, SIGUSR1, SIGUSR2) from now on, as a
 // solve with a checkpoint does once it starts. Call it before Matrix::load when the
 // solve will checkpoint: a signal that arrives while the matrix loads is then kept,

@@ -17,6 +17,12 @@ std::string previous_checkpoint_path(const std::string& path) { return path + ".
 
 void catch_stop_signals() { state::install_stop_handlers(); }
 
+Status check_checkpoint_plan(const CheckpointPlan& plan) {
+  if (plan.path.empty() && (plan.resume || plan.time_budget_seconds > 0 || plan.every_seconds > 0))
+    return Status::usage("--resume, --time-budget and --checkpoint-every need --checkpoint FILE");
+  return Status::ok();
+}
+
 bool checkpoint_exists(MPI_Comm comm, const std::string& path) {
   int found = 0;
   if (comm_rank(comm) == 0) {

@@ -67,7 +67,9 @@ RunIdentity checkpoint_identity(const MatrixInfo& info, const SolveOptions& o, c
   id.options = {{"pairs", std::to_string(o.pairs)}, {"selection", o.selection}, {"method", method},
                 {"tolerance", fmt::format("{}", o.tolerance)}, {"seed", std::to_string(o.seed)},
                 {"block_size", std::to_string(o.block_size)},
-                {"shift", o.has_shift ? fmt::format("{}", o.shift) : "none"}};
+                {"shift", o.has_shift ? fmt::format("{}", o.shift) : "none"},
+                // The same entries declared symmetric or not take different code paths.
+                {"symmetric", info.symmetric ? "yes" : "no"}};
   return id;
 }
 
@@ -174,10 +176,14 @@ Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
     const double step_start = elapsed();
     LODESTONE_TRY(method->step());
     record();
-    LODESTONE_TRY((*session)->boundary(*method, op, result.history, options.pairs, elapsed(), elapsed() - step_start));
     result.stall_reason = method->stall_reason();
     if (!result.stall_reason.empty()) break;
+    LODESTONE_TRY((*session)->boundary(*method, op, result.history, options.pairs, elapsed(), elapsed() - step_start));
   }
+  // Stopped short by the matvec budget or a stall: the checkpoint keeps every
+  // product done, so a later job (a larger --max-matvecs, say) resumes from here.
+  if (method->converged() < options.pairs && (*session)->active())
+    LODESTONE_TRY((*session)->write(*method, op, result.history, options.pairs, elapsed()));
 
   stage.emplace("Extract pairs");
   auto pairs = method->extract();

@@ -5,6 +5,7 @@
 
 #include "cli/command.hpp"
 #include "io/atomic_output.hpp"
+#include "lodestone/checkpoint.hpp"
 #include "lodestone/result.hpp"
 #include "lodestone/solver.hpp"
 #include "state/duration.hpp"
@@ -95,12 +96,16 @@ Command make_solve_command(CLI::App& root) {
               if (!d) return d.status();
               plan.time_budget_seconds = *d;
             }
+            LODESTONE_TRY(check_checkpoint_plan(plan));
             plan.inputs = {args->matrix};
             if (!args->out.empty()) plan.inputs.push_back(args->out);
+            // The results must not replace the matrix or either checkpoint generation.
+            std::vector<std::string> out_inputs = {args->matrix};
+            if (!plan.path.empty()) out_inputs.insert(out_inputs.end(), {plan.path, previous_checkpoint_path(plan.path)});
             // Refuse an output that cannot be written before any work is done
             // (nothing is created here: the results are written atomically later).
             if (!args->out.empty()) {
-              auto writable = io::reserve_temporary(comm, args->out, {args->matrix}, "output");
+              auto writable = io::reserve_temporary(comm, args->out, out_inputs, "output");
               if (!writable) return writable.status();
             }
             LoadOptions load;
@@ -114,7 +119,7 @@ Command make_solve_command(CLI::App& root) {
             if (!args->quiet) o.note = [](const std::string& s) { std::fprintf(stderr, "%s\n", s.c_str()); };
             auto r = solve(*m, o);
             if (!r) return r.status();
-            if (!args->out.empty()) LODESTONE_TRY(write_result(comm, args->out, *r, {args->matrix}));
+            if (!args->out.empty()) LODESTONE_TRY(write_result(comm, args->out, *r, out_inputs));
             if (!args->quiet) print_once(comm, closing_table(*r));
             if (r->converged < o.pairs) {
               const std::string kept = args->out.empty() ? "" : "; " + args->out + " holds them";

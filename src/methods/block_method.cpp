@@ -67,7 +67,10 @@ class BlockMethod final : public SubspaceMethod {
     if (m > 0 && m < active_ && ritz_im_[m - 1] > 0) ++m;  // keep a complex pair whole
     return lock(m);
   }
-  void save_extra(MethodState& s) const override { s.scalars["block_guard"] = {static_cast<double>(guard_)}; }
+  Status save_extra(MethodState& s) const override {
+    s.scalars["block_guard"] = {static_cast<double>(guard_)};
+    return Status::ok();
+  }
   Status restore_extra(MethodState& s) override {
     auto g = s.scalars["block_guard"];
     guard_ = g.empty() ? 2 : static_cast<int>(g[0]);

@@ -213,8 +213,9 @@ class ChebyshevMethod final : public SubspaceMethod {
     return Status::ok();
   }
 
-  void save_extra(MethodState& s) const override {
+  Status save_extra(MethodState& s) const override {
     s.scalars["chebyshev"] = {bounds_.lower, bounds_.upper, static_cast<double>(degree_), static_cast<double>(guard_)};
+    return Status::ok();
   }
   Status restore_extra(MethodState& s) override {
     auto c = s.scalars["chebyshev"];

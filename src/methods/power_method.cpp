@@ -197,12 +197,25 @@ class PowerMethod final : public SubspaceMethod {
 
   std::string stall_reason() const override { return stall_; }
 
-  void save_extra(MethodState& s) const override {
+  Status save_extra(MethodState& s) const override {
     s.scalars["power_window"] = {prev_best_, window_best_, static_cast<double>(since_lock_),
                                  static_cast<double>(flat_windows_), stuck_best_,
                                  static_cast<double>(stuck_windows_)};
+    // The iterate carried over from the pair just locked into the next restart.
+    if (have_next_) {
+      auto y = algebra::Block::like(op_->mat(), 1);
+      if (!y) return y.status();
+      algebra::copy_columns(next_, 0, *y, 0, 1);
+      s.blocks.emplace_back("power_next", std::move(*y));
+    }
+    return Status::ok();
   }
   Status restore_extra(MethodState& s) override {
+    for (auto& [name, block] : s.blocks)
+      if (name == "power_next" && block.cols() == 1) {
+        next_ = std::move(block);
+        have_next_ = true;
+      }
     auto w = s.scalars["power_window"];
     if (w.size() >= 3) prev_best_ = w[0], window_best_ = w[1], since_lock_ = static_cast<std::int64_t>(w[2]);
     if (w.size() >= 6) {

@@ -410,8 +410,7 @@ Status SubspaceMethod::save(MethodState& state) {
   state.scalars["locked_t"] = t_.a;
   state.scalars["counters"] = {static_cast<double>(locked_), static_cast<double>(iterations_),
                                static_cast<double>(stream_)};
-  save_extra(state);
-  return Status::ok();
+  return save_extra(state);
 }
 
 Status SubspaceMethod::restore(algebra::Operator& op, const Problem& problem, MethodState& state) {

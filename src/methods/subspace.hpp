@@ -54,7 +54,7 @@ class SubspaceMethod : public Method {
   int wanted_left() const { return std::max(0, problem_.pairs - locked_); }
   double threshold() const { return problem_.tolerance * problem_.norm_estimate; }
 
-  virtual void save_extra(MethodState&) const {}
+  virtual Status save_extra(MethodState&) const { return Status::ok(); }
   virtual Status restore_extra(MethodState&) { return Status::ok(); }
 
   algebra::Operator* op_ = nullptr;

@@ -38,18 +38,29 @@ void remove_stale_temporaries(const std::string& final_path) {
   }
 }
 
-}  // namespace
-
-Result<GenerationalOutput> GenerationalOutput::begin(MPI_Comm comm, const std::string& final_path,
-                                                     const std::vector<std::string>& inputs) {
-  auto temp = io::reserve_temporary(comm, final_path, inputs, "checkpoint", [&]() -> Status {
+// A fresh temporary name for the next checkpoint at `final_path`, after the checks
+// of check_checkpoint_path (nothing is created).
+Result<std::string> reserve(MPI_Comm comm, const std::string& final_path, const std::vector<std::string>& inputs) {
+  return io::reserve_temporary(comm, final_path, inputs, "checkpoint", [&]() -> Status {
     const std::string previous = previous_checkpoint_path(final_path);
     for (const auto& in : inputs)
       if (io::same_file(in, previous))
-        return Status::input(fmt::format("{}: the checkpoint would overwrite an input; choose another name", final_path));
+        return Status::input(fmt::format("{}: the checkpoint would overwrite an input as {}; choose another name",
+                                         final_path, previous));
     remove_stale_temporaries(final_path);
     return Status::ok();
   });
+}
+
+}  // namespace
+
+Status check_checkpoint_path(MPI_Comm comm, const std::string& final_path, const std::vector<std::string>& inputs) {
+  return reserve(comm, final_path, inputs).status();
+}
+
+Result<GenerationalOutput> GenerationalOutput::begin(MPI_Comm comm, const std::string& final_path,
+                                                     const std::vector<std::string>& inputs) {
+  auto temp = reserve(comm, final_path, inputs);
   if (!temp) return temp.status();
   return GenerationalOutput(comm, final_path, *temp);
 }

@@ -21,6 +21,11 @@
 
 namespace lodestone::ckpt {
 
+// Collective. Refuses, before any work, a checkpoint path whose checkpoints
+// would overwrite one of `inputs` (as FILE or as FILE.previous) or cannot be
+// written, and removes temporary files that killed writers of it left behind.
+Status check_checkpoint_path(MPI_Comm comm, const std::string& final_path, const std::vector<std::string>& inputs);
+
 class GenerationalOutput {
  public:
   // Collective. `inputs` are paths the checkpoint must not overwrite.

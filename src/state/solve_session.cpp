@@ -3,7 +3,13 @@
 
 #include <fmt/format.h>
 
+#include <cerrno>
+#include <cstdio>
+#include <cstring>
+#include <filesystem>
+
 #include "io/atomic_output.hpp"
+#include "state/checkpoint_output.hpp"
 #include "state/method_state_adapter.hpp"
 #include "state/stop_signals.hpp"
 #include "support/collective.hpp"
@@ -11,16 +17,37 @@
 #include "support/log_stage.hpp"
 
 namespace lodestone::state {
+namespace {
+
+// After a resume from FILE.previous: FILE is damaged (or missing). Renamed to
+// FILE.damaged, it is no longer rotated over the good previous generation by the
+// next checkpoint write; `said` then tells the user where it went.
+Status set_aside_damaged(MPI_Comm comm, const std::string& path, std::string& said) {
+  Status s;
+  if (comm_rank(comm) == 0) {
+    std::error_code ec;
+    if (std::filesystem::exists(path, ec)) {
+      const std::string aside = path + ".damaged";
+      if (std::rename(path.c_str(), aside.c_str()) != 0)
+        s = Status::input(fmt::format("{}: cannot set the damaged checkpoint aside as {}: {}", path, aside,
+                                      std::strerror(errno)));
+      else
+        said = fmt::format(" (the damaged file is kept as {})", aside);
+    }
+  }
+  return agree(comm, s);
+}
+
+}  // namespace
 
 Result<std::unique_ptr<SolveSession>> SolveSession::open(const Matrix& matrix, const CheckpointPlan& plan,
                                                          RunIdentity identity) {
-  if (plan.path.empty() && (plan.resume || plan.time_budget_seconds > 0 || plan.every_seconds > 0))
-    return Status::usage("--resume, --time-budget and --checkpoint-every need --checkpoint FILE");
+  LODESTONE_TRY(check_checkpoint_plan(plan));
   if (!plan.path.empty()) {
-    // Refuse a checkpoint path that cannot be written or names an input before
-    // any work (nothing is created: each checkpoint gets a fresh temporary name).
-    auto writable = io::reserve_temporary(matrix.comm(), plan.path, plan.inputs, "checkpoint");
-    if (!writable) return writable.status();
+    // Refuse a checkpoint path that cannot be written or whose checkpoints would
+    // overwrite an input before any work (nothing is created: each checkpoint
+    // gets a fresh temporary name).
+    LODESTONE_TRY(ckpt::check_checkpoint_path(matrix.comm(), plan.path, plan.inputs));
   }
   ClockOptions o;
   o.time_budget = plan.time_budget_seconds;
@@ -51,14 +78,18 @@ Result<bool> SolveSession::resume(methods::Method& method, algebra::Operator& op
   auto c = read_checkpoint(comm, plan_.path, info.row_begin, info.row_end);
   if (!c) return c.status();
   LODESTONE_TRY(check_resumable(*c, identity_, c->read_from));
+  std::string set_aside;
+  if (c->read_from != plan_.path) LODESTONE_TRY(set_aside_damaged(comm, plan_.path, set_aside));
   auto ms = import_state(matrix_.petsc(), c->state);
   if (!ms) return ms.status();
-  op.set_matvecs(c->matvecs);
   LODESTONE_TRY(agree(comm, method.restore(op, problem, *ms)));
+  // The products restore() repeats to rebuild its state are not counted: an
+  // interrupted run counts the same products as one that ran straight through.
+  op.set_matvecs(c->matvecs);
   history = c->history;
   seconds_before = c->elapsed_seconds;
   if (note && comm_rank(comm) == 0) {
-    if (!c->note.empty()) note("warning: " + c->note);
+    if (!c->note.empty()) note("warning: " + c->note + set_aside);
     note(fmt::format("resuming from {} (written {} by {} rank(s)): {} iterations, {} matvecs, {} of {} pairs converged",
                      c->read_from, c->written_at, c->written_by_ranks, c->iterations, c->matvecs, c->converged,
                      identity_.options.count("pairs") ? identity_.options.at("pairs") : "?"));
