@@ -116,7 +116,10 @@ Command make_solve_command(CLI::App& root) {
             o.has_shift = shift->count() > 0;
             o.shift = args->shift;
             if (args->quiet) o.progress_seconds = 0;
-            if (!args->quiet) o.note = [](const std::string& s) { std::fprintf(stderr, "%s\n", s.c_str()); };
+            // --quiet keeps the warnings (a damaged checkpoint, say) and drops the rest.
+            o.note = [quiet = args->quiet](const std::string& s) {
+              if (!quiet || s.rfind("warning:", 0) == 0) std::fprintf(stderr, "%s\n", s.c_str());
+            };
             auto r = solve(*m, o);
             if (!r) return r.status();
             if (!args->out.empty()) LODESTONE_TRY(write_result(comm, args->out, *r, out_inputs));
