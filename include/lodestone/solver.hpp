@@ -19,6 +19,7 @@
 #include <cstdint>
 #include <functional>
 #include <string>
+#include <vector>
 
 #include "lodestone/checkpoint.hpp"
 #include "lodestone/matrix.hpp"
@@ -51,5 +52,8 @@ struct SolveOptions {
 // the caller decides how to report it. Errors (bad options, bad input) come back
 // as Status.
 Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options);
+
+// The values SolveOptions::method accepts: "auto", then every method there is.
+std::vector<std::string> method_choices();
 
 }  // namespace lodestone

@@ -75,6 +75,12 @@ RunIdentity checkpoint_identity(const MatrixInfo& info, const SolveOptions& o, c
 
 }  // namespace
 
+std::vector<std::string> method_choices() {
+  std::vector<std::string> out = {"auto"};
+  for (const auto& m : methods::registry()) out.emplace_back(m.name);
+  return out;
+}
+
 Result<SolveResult> solve(const Matrix& matrix, const SolveOptions& options) {
   const auto t0 = Clock::now();
   MPI_Comm comm = matrix.comm();

@@ -1,10 +1,12 @@
 // `lodestone calibrate MATRIX.h5 --pairs K --out FILE.json`: measure the planner's
 // constants on this machine with a short run. Options in, calibrate() out; no numerics here.
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 
 #include "cli/command.hpp"
 #include "io/atomic_output.hpp"
 #include "lodestone/calibration.hpp"
+#include "lodestone/solver.hpp"
 
 namespace lodestone::cli {
 
@@ -25,8 +27,8 @@ Command make_calibrate_command(CLI::App& root) {
                   "budget of matrix-vector products for the short solve; if it runs out, convergence is "
                   "extrapolated from the residuals")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 50))->capture_default_str();
-  app->add_option("--method", a->req.method, "auto | power | block | chebyshev | krylov, as for solve and plan")
-      ->check(CLI::IsMember({"auto", "power", "block", "chebyshev", "krylov"}))->capture_default_str();
+  app->add_option("--method", a->req.method, fmt::format("{}, as for solve and plan", fmt::join(method_choices(), " | ")))
+      ->check(CLI::IsMember(method_choices()))->capture_default_str();
   app->add_option("--block-size", a->req.block_size, "block and chebyshev: vectors per block (default K plus a few; chebyshev needs more than K)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));
   app->add_option("--tol", a->req.tolerance, "tolerance of the short solve, as for solve")

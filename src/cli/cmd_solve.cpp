@@ -1,6 +1,7 @@
 // `lodestone solve MATRIX.h5 --pairs K --out RESULT.h5 ...`: options in, solve()
 // through the public API, a closing table out. No numerics here.
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 #include <limits>
 
 #include "cli/command.hpp"
@@ -47,8 +48,11 @@ Command make_solve_command(CLI::App& root) {
   app->add_option("--select", args->solve.selection, "which pairs: magnitude (largest |lambda|), largest, smallest (symmetric only)")
       ->check(CLI::IsMember({"magnitude", "largest", "smallest"}))
       ->capture_default_str();
-  app->add_option("--method", args->solve.method, "auto (chebyshev if symmetric, else krylov) | power | block | chebyshev | krylov")
-      ->check(CLI::IsMember({"auto", "power", "block", "chebyshev", "krylov"}))
+  const std::vector<std::string> methods = method_choices();  // "auto" first
+  app->add_option("--method", args->solve.method,
+                  fmt::format("auto (chebyshev if symmetric, else krylov) | {}",
+                              fmt::join(methods.begin() + 1, methods.end(), " | ")))
+      ->check(CLI::IsMember(methods))
       ->capture_default_str();
   app->add_option("--tol", args->solve.tolerance, "converged when ||Av - lambda v|| <= tol * ||A||_est")
       ->check(CLI::Range(1e-16, 0.5))
