@@ -32,12 +32,12 @@ Status at_line(const std::string& path, std::int64_t line, const Status& defect)
   return Status::input(fmt::format("{}: line {}: {}", path, line, defect.message()));
 }
 
-Result<Header> read_header(const mm::InputFile& file, const std::string& path, std::size_t chunk) {
-  LineReader r(file.fd(), 0, file.size(), chunk);
+Result<Header> read_header(const mm::InputFile& file, const std::string& path, const ImportOptions& options) {
+  LineReader r(file.fd(), 0, file.size(), options.chunk_bytes, options.max_line_bytes);
   std::string_view line;
   Header h;
   if (!r.next(line)) {
-    if (!r.status()) return Status::input(fmt::format("{}: {}", path, r.status().message()));
+    if (!r.status()) return at_line(path, 1, r.status());
     return Status::input(fmt::format("{}: line 1: the file is empty; expected the banner "
                                      "'%%MatrixMarket matrix FORMAT FIELD SYMMETRY'", path));
   }
@@ -55,7 +55,7 @@ Result<Header> read_header(const mm::InputFile& file, const std::string& path, s
     found = true;
     break;
   }
-  if (!r.status()) return Status::input(fmt::format("{}: {}", path, r.status().message()));
+  if (!r.status()) return at_line(path, number + 1, r.status());
   if (!found) return at_line(path, number + 1, Status::input("the file ends before the size line"));
   h.size_line = number;
   h.data_begin = r.offset();
@@ -64,9 +64,10 @@ Result<Header> read_header(const mm::InputFile& file, const std::string& path, s
 }
 
 // Rank 0 reads the header; everyone receives it or the agreed failure.
-Result<Header> share_header(MPI_Comm comm, const mm::InputFile* file, const std::string& path, std::size_t chunk) {
+Result<Header> share_header(MPI_Comm comm, const mm::InputFile* file, const std::string& path,
+                            const ImportOptions& options) {
   Result<Header> h = Status::input("no header");
-  if (comm_rank(comm) == 0) h = read_header(*file, path, chunk);
+  if (comm_rank(comm) == 0) h = read_header(*file, path, options);
   LODESTONE_TRY(agree(comm, comm_rank(comm) == 0 ? h.status() : Status::ok()));
   std::int64_t packed[9] = {};
   if (comm_rank(comm) == 0) {
@@ -139,16 +140,24 @@ Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, E
   return agree(comm, defect);
 }
 
-// Pass one of the array format: data lines in this rank's share.
-Result<std::int64_t> count_data_lines(const mm::InputFile& file, mm::ByteRange range, std::size_t chunk) {
-  LineReader r(file.fd(), range.begin, range.end, chunk);
-  std::string_view line;
+// Pass one of the array format: data lines in this rank's share, and all its
+// lines up to a read defect.
+struct LineCount {
   std::int64_t data = 0;
+  std::int64_t lines = 0;
+  Status defect;
+};
+
+LineCount count_data_lines(const mm::InputFile& file, mm::ByteRange range, const ImportOptions& options) {
+  LineReader r(file.fd(), range.begin, range.end, options.chunk_bytes, options.max_line_bytes);
+  std::string_view line;
+  LineCount c;
   while (r.next(line)) {
-    if (!mm::is_skippable(line)) ++data;
+    ++c.lines;
+    if (!mm::is_skippable(line)) ++c.data;
   }
-  if (!r.status()) return r.status();
-  return data;
+  c.defect = r.status();
+  return c;
 }
 
 std::string count_message(const std::string& path, const Header& h, std::int64_t found) {
@@ -170,17 +179,17 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
   const int rank = comm_rank(comm), size = comm_size(comm);
   auto file = mm::InputFile::open(path);
   LODESTONE_TRY(agree(comm, file.status()));
-  auto header = share_header(comm, &*file, path, options.chunk_bytes);
+  auto header = share_header(comm, &*file, path, options);
   if (!header) return header.status();
   const Header h = *header;
   const std::int64_t n = h.size.rows;
 
-  auto share = mm::line_aligned_share(file->fd(), h.data_begin, file->size(), rank, size);
+  auto share = mm::line_aligned_share(file->fd(), h.data_begin, file->size(), rank, size, options.max_line_bytes);
   Status s = share ? Status::ok() : Status::input(fmt::format("{}: {}", path, share.status().message()));
   LODESTONE_TRY(agree(comm, s));
 
   EntryRouter router(comm, n);
-  LineReader reader(file->fd(), share->begin, share->end, options.chunk_bytes);
+  LineReader reader(file->fd(), share->begin, share->end, options.chunk_bytes, options.max_line_bytes);
   const std::int64_t round = bounded_round(comm, options.round_entries);
   std::int64_t data_lines = 0;
 
@@ -196,12 +205,14 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
     const std::int64_t found = sum_all(comm, data_lines);
     if (found != h.size.entries) return Status::input(count_message(path, h, found));
   } else {
-    auto mine = count_data_lines(*file, *share, options.chunk_bytes);
-    s = mine ? Status::ok() : Status::input(fmt::format("{}: {}", path, mine.status().message()));
+    const LineCount mine = count_data_lines(*file, *share, options);
+    // Ranks before the first failing one counted all their lines: its line number follows.
+    const std::int64_t lines_before = exclusive_prefix_sum(comm, mine.lines);
+    s = mine.defect ? Status::ok() : at_line(path, h.data_line + lines_before + mine.lines, mine.defect);
     LODESTONE_TRY(agree(comm, s));
-    const std::int64_t found = sum_all(comm, *mine);
+    const std::int64_t found = sum_all(comm, mine.data);
     if (found != h.size.entries) return Status::input(count_message(path, h, found));
-    const std::int64_t first = exclusive_prefix_sum(comm, *mine);
+    const std::int64_t first = exclusive_prefix_sum(comm, mine.data);
     mm::ArrayCursor at(n, h.banner.symmetry, first);
     s = route_lines(comm, path, reader, router, h.data_line, round, [&](std::string_view line) {
       auto v = mm::parse_array_line(line, h.banner);
