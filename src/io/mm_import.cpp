@@ -2,6 +2,7 @@
 #include "io/mm_import.hpp"
 
 #include <fmt/format.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <new>
@@ -32,7 +33,18 @@ Status at_line(const std::string& path, std::int64_t line, const Status& defect)
   return Status::input(fmt::format("{}: line {}: {}", path, line, defect.message()));
 }
 
+// Refuses a compressed file by its first bytes, before any line is looked for.
+Status check_not_compressed(const mm::InputFile& file, const std::string& path) {
+  char first[8] = {};
+  ssize_t got = ::pread(file.fd(), first, sizeof first, 0);
+  auto kind = mm::compression_of(std::string_view(first, got > 0 ? static_cast<std::size_t>(got) : 0));
+  if (kind.empty()) return Status::ok();
+  return Status::input(fmt::format("{}: the file is compressed ({}); decompress it first and import the result",
+                                   path, kind));
+}
+
 Result<Header> read_header(const mm::InputFile& file, const std::string& path, const ImportOptions& options) {
+  LODESTONE_TRY(check_not_compressed(file, path));
   LineReader r(file.fd(), 0, file.size(), options.chunk_bytes, options.max_line_bytes);
   std::string_view line;
   Header h;

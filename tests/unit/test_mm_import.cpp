@@ -285,3 +285,12 @@ TEST(MmImport, OverLongLineIsRefusedOnEveryRank) {
   EXPECT_NE(first.status().message().find(": line 1: longer than 48 bytes"), std::string::npos)
       << first.status().message();
 }
+
+TEST(MmImport, CompressedFileIsRefusedAsSuch) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  auto m = read_text(comm, "packed.mtx.gz", std::string("\x1f\x8b\x08\x00\x00\x00\x00\x00\x00\x03\n", 11));
+  ASSERT_FALSE(m.is_ok());
+  EXPECT_NE(m.status().message().find("packed.mtx.gz: the file is compressed (gzip); decompress it first"),
+            std::string::npos)
+      << m.status().message();
+}
