@@ -5,6 +5,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <limits>
 #include <new>
 
 #include "io/atomic_output.hpp"
@@ -152,21 +153,40 @@ Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, E
   return agree(comm, defect);
 }
 
+// True if an array data line holds more than one word (one value per line is the rule).
+bool several_values(std::string_view line) {
+  auto blank = [](char c) { return c == ' ' || c == '\t' || c == '\r'; };
+  std::size_t i = 0;
+  while (i < line.size() && blank(line[i])) ++i;
+  while (i < line.size() && !blank(line[i])) ++i;
+  while (i < line.size() && blank(line[i])) ++i;
+  return i < line.size();
+}
+
 // Pass one of the array format: data lines in this rank's share, and all its
-// lines up to a read defect.
+// lines up to a read defect. The first line with several values is kept: if the
+// count is then wrong, that line, not the count, is the defect to name.
 struct LineCount {
   std::int64_t data = 0;
   std::int64_t lines = 0;
   Status defect;
+  std::int64_t several_at = 0;  // 1-based within the share; 0 if none
+  Status several;
 };
 
-LineCount count_data_lines(const mm::InputFile& file, mm::ByteRange range, const ImportOptions& options) {
+LineCount count_data_lines(const mm::InputFile& file, mm::ByteRange range, const Banner& banner,
+                           const ImportOptions& options) {
   LineReader r(file.fd(), range.begin, range.end, options.chunk_bytes, options.max_line_bytes);
   std::string_view line;
   LineCount c;
   while (r.next(line)) {
     ++c.lines;
-    if (!mm::is_skippable(line)) ++c.data;
+    if (mm::is_skippable(line)) continue;
+    ++c.data;
+    if (c.several_at == 0 && several_values(line)) {
+      c.several_at = c.lines;
+      c.several = mm::parse_array_line(line, banner).status();
+    }
   }
   c.defect = r.status();
   return c;
@@ -217,13 +237,20 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
     const std::int64_t found = sum_all(comm, data_lines);
     if (found != h.size.entries) return Status::input(count_message(path, h, found));
   } else {
-    const LineCount mine = count_data_lines(*file, *share, options);
+    const LineCount mine = count_data_lines(*file, *share, h.banner, options);
     // Ranks before the first failing one counted all their lines: its line number follows.
     const std::int64_t lines_before = exclusive_prefix_sum(comm, mine.lines);
     s = mine.defect ? Status::ok() : at_line(path, h.data_line + lines_before + mine.lines, mine.defect);
     LODESTONE_TRY(agree(comm, s));
     const std::int64_t found = sum_all(comm, mine.data);
-    if (found != h.size.entries) return Status::input(count_message(path, h, found));
+    if (found != h.size.entries) {
+      // Several values on one line make the count wrong: name the first such line.
+      const std::int64_t none = std::numeric_limits<std::int64_t>::max();
+      const std::int64_t at = mine.several_at ? h.data_line + lines_before + mine.several_at - 1 : none;
+      const std::int64_t first = min_all(comm, at);
+      if (first == none) return Status::input(count_message(path, h, found));
+      return agree(comm, at == first ? at_line(path, at, mine.several) : Status::ok());
+    }
     const std::int64_t first = exclusive_prefix_sum(comm, mine.data);
     mm::ArrayCursor at(n, h.banner.symmetry, first);
     s = route_lines(comm, path, reader, router, h.data_line, round, [&](std::string_view line) {

@@ -286,6 +286,22 @@ TEST(MmImport, OverLongLineIsRefusedOnEveryRank) {
       << first.status().message();
 }
 
+TEST(MmImport, ArrayLineWithSeveralValuesIsNamed) {
+  // Whether the count then comes out wrong or right, the message names the line.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::string head = "%%MatrixMarket matrix array real general\n2 2\n";
+  for (const std::string& body : {std::string("1 2\n3 4\n"), std::string("1\n% c\n2\n3 5\n"),
+                                  std::string("1\n2 5\n3\n4\n")}) {
+    auto m = read_text(comm, "several.mtx", head + body);
+    ASSERT_FALSE(m.is_ok());
+    const int line = body[1] == ' ' ? 3 : body[1] == '\n' && body[2] == '%' ? 6 : 4;
+    EXPECT_NE(m.status().message().find(fmt::format(": line {}: expected one value per line (array format), found '",
+                                                    line)),
+              std::string::npos)
+        << m.status().message();
+  }
+}
+
 TEST(MmImport, CompressedFileIsRefusedAsSuch) {
   MPI_Comm comm = MPI_COMM_WORLD;
   auto m = read_text(comm, "packed.mtx.gz", std::string("\x1f\x8b\x08\x00\x00\x00\x00\x00\x00\x03\n", 11));
