@@ -3,6 +3,8 @@
 
 #include <cstdio>
 #include <cstdlib>
+#include <exception>
+#include <new>
 #include <vector>
 
 #include "cli/command.hpp"
@@ -87,7 +89,20 @@ int main(int argc, char** argv) {
   }
   for (auto& c : commands) {
     if (c.app->parsed()) {
-      Status s = c.run(comm);
+      Status s;
+      try {
+        s = c.run(comm);
+      } catch (const std::exception& e) {
+        // A last resort: sizes read from files are checked, and their allocations
+        // agreed on, before use. An exception that still escapes ends this rank with
+        // one line and status 1 rather than an abort; if it came on one rank alone,
+        // mpirun ends the others.
+        const bool memory = dynamic_cast<const std::bad_alloc*>(&e) != nullptr;
+        std::fprintf(stderr, "lodestone: error: rank %d: %s\n", comm_rank(comm),
+                     memory ? "out of memory" : fmt::format("unexpected failure: {}", e.what()).c_str());
+        std::fflush(stderr);
+        return 1;
+      }
       if (s.kind() == ErrorKind::stopped || s.kind() == ErrorKind::budget) {
         // Not failures: the run kept its work and says how to go on.
         if (comm_rank(comm) == 0) std::fprintf(stderr, "lodestone: %s\n", s.message().c_str());

@@ -2,8 +2,10 @@
 #include "io/mm_import.hpp"
 
 #include <fmt/format.h>
+#include <unistd.h>
 
 #include <algorithm>
+#include <limits>
 #include <new>
 
 #include "io/atomic_output.hpp"
@@ -32,12 +34,23 @@ Status at_line(const std::string& path, std::int64_t line, const Status& defect)
   return Status::input(fmt::format("{}: line {}: {}", path, line, defect.message()));
 }
 
-Result<Header> read_header(const mm::InputFile& file, const std::string& path, std::size_t chunk) {
-  LineReader r(file.fd(), 0, file.size(), chunk);
+// Refuses a compressed file by its first bytes, before any line is looked for.
+Status check_not_compressed(const mm::InputFile& file, const std::string& path) {
+  char first[8] = {};
+  ssize_t got = ::pread(file.fd(), first, sizeof first, 0);
+  auto kind = mm::compression_of(std::string_view(first, got > 0 ? static_cast<std::size_t>(got) : 0));
+  if (kind.empty()) return Status::ok();
+  return Status::input(fmt::format("{}: the file is compressed ({}); decompress it first and import the result",
+                                   path, kind));
+}
+
+Result<Header> read_header(const mm::InputFile& file, const std::string& path, const ImportOptions& options) {
+  LODESTONE_TRY(check_not_compressed(file, path));
+  LineReader r(file.fd(), 0, file.size(), options.chunk_bytes, options.max_line_bytes);
   std::string_view line;
   Header h;
   if (!r.next(line)) {
-    if (!r.status()) return Status::input(fmt::format("{}: {}", path, r.status().message()));
+    if (!r.status()) return at_line(path, 1, r.status());
     return Status::input(fmt::format("{}: line 1: the file is empty; expected the banner "
                                      "'%%MatrixMarket matrix FORMAT FIELD SYMMETRY'", path));
   }
@@ -55,7 +68,7 @@ Result<Header> read_header(const mm::InputFile& file, const std::string& path, s
     found = true;
     break;
   }
-  if (!r.status()) return Status::input(fmt::format("{}: {}", path, r.status().message()));
+  if (!r.status()) return at_line(path, number + 1, r.status());
   if (!found) return at_line(path, number + 1, Status::input("the file ends before the size line"));
   h.size_line = number;
   h.data_begin = r.offset();
@@ -64,9 +77,10 @@ Result<Header> read_header(const mm::InputFile& file, const std::string& path, s
 }
 
 // Rank 0 reads the header; everyone receives it or the agreed failure.
-Result<Header> share_header(MPI_Comm comm, const mm::InputFile* file, const std::string& path, std::size_t chunk) {
+Result<Header> share_header(MPI_Comm comm, const mm::InputFile* file, const std::string& path,
+                            const ImportOptions& options) {
   Result<Header> h = Status::input("no header");
-  if (comm_rank(comm) == 0) h = read_header(*file, path, chunk);
+  if (comm_rank(comm) == 0) h = read_header(*file, path, options);
   LODESTONE_TRY(agree(comm, comm_rank(comm) == 0 ? h.status() : Status::ok()));
   std::int64_t packed[9] = {};
   if (comm_rank(comm) == 0) {
@@ -139,16 +153,43 @@ Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, E
   return agree(comm, defect);
 }
 
-// Pass one of the array format: data lines in this rank's share.
-Result<std::int64_t> count_data_lines(const mm::InputFile& file, mm::ByteRange range, std::size_t chunk) {
-  LineReader r(file.fd(), range.begin, range.end, chunk);
-  std::string_view line;
+// True if an array data line holds more than one word (one value per line is the rule).
+bool several_values(std::string_view line) {
+  auto blank = [](char c) { return c == ' ' || c == '\t' || c == '\r'; };
+  std::size_t i = 0;
+  while (i < line.size() && blank(line[i])) ++i;
+  while (i < line.size() && !blank(line[i])) ++i;
+  while (i < line.size() && blank(line[i])) ++i;
+  return i < line.size();
+}
+
+// Pass one of the array format: data lines in this rank's share, and all its
+// lines up to a read defect. The first line with several values is kept: if the
+// count is then wrong, that line, not the count, is the defect to name.
+struct LineCount {
   std::int64_t data = 0;
+  std::int64_t lines = 0;
+  Status defect;
+  std::int64_t several_at = 0;  // 1-based within the share; 0 if none
+  Status several;
+};
+
+LineCount count_data_lines(const mm::InputFile& file, mm::ByteRange range, const Banner& banner,
+                           const ImportOptions& options) {
+  LineReader r(file.fd(), range.begin, range.end, options.chunk_bytes, options.max_line_bytes);
+  std::string_view line;
+  LineCount c;
   while (r.next(line)) {
-    if (!mm::is_skippable(line)) ++data;
+    ++c.lines;
+    if (mm::is_skippable(line)) continue;
+    ++c.data;
+    if (c.several_at == 0 && several_values(line)) {
+      c.several_at = c.lines;
+      c.several = mm::parse_array_line(line, banner).status();
+    }
   }
-  if (!r.status()) return r.status();
-  return data;
+  c.defect = r.status();
+  return c;
 }
 
 std::string count_message(const std::string& path, const Header& h, std::int64_t found) {
@@ -170,17 +211,17 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
   const int rank = comm_rank(comm), size = comm_size(comm);
   auto file = mm::InputFile::open(path);
   LODESTONE_TRY(agree(comm, file.status()));
-  auto header = share_header(comm, &*file, path, options.chunk_bytes);
+  auto header = share_header(comm, &*file, path, options);
   if (!header) return header.status();
   const Header h = *header;
   const std::int64_t n = h.size.rows;
 
-  auto share = mm::line_aligned_share(file->fd(), h.data_begin, file->size(), rank, size);
+  auto share = mm::line_aligned_share(file->fd(), h.data_begin, file->size(), rank, size, options.max_line_bytes);
   Status s = share ? Status::ok() : Status::input(fmt::format("{}: {}", path, share.status().message()));
   LODESTONE_TRY(agree(comm, s));
 
   EntryRouter router(comm, n);
-  LineReader reader(file->fd(), share->begin, share->end, options.chunk_bytes);
+  LineReader reader(file->fd(), share->begin, share->end, options.chunk_bytes, options.max_line_bytes);
   const std::int64_t round = bounded_round(comm, options.round_entries);
   std::int64_t data_lines = 0;
 
@@ -196,12 +237,21 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
     const std::int64_t found = sum_all(comm, data_lines);
     if (found != h.size.entries) return Status::input(count_message(path, h, found));
   } else {
-    auto mine = count_data_lines(*file, *share, options.chunk_bytes);
-    s = mine ? Status::ok() : Status::input(fmt::format("{}: {}", path, mine.status().message()));
+    const LineCount mine = count_data_lines(*file, *share, h.banner, options);
+    // Ranks before the first failing one counted all their lines: its line number follows.
+    const std::int64_t lines_before = exclusive_prefix_sum(comm, mine.lines);
+    s = mine.defect ? Status::ok() : at_line(path, h.data_line + lines_before + mine.lines, mine.defect);
     LODESTONE_TRY(agree(comm, s));
-    const std::int64_t found = sum_all(comm, *mine);
-    if (found != h.size.entries) return Status::input(count_message(path, h, found));
-    const std::int64_t first = exclusive_prefix_sum(comm, *mine);
+    const std::int64_t found = sum_all(comm, mine.data);
+    if (found != h.size.entries) {
+      // Several values on one line make the count wrong: name the first such line.
+      const std::int64_t none = std::numeric_limits<std::int64_t>::max();
+      const std::int64_t at = mine.several_at ? h.data_line + lines_before + mine.several_at - 1 : none;
+      const std::int64_t first = min_all(comm, at);
+      if (first == none) return Status::input(count_message(path, h, found));
+      return agree(comm, at == first ? at_line(path, at, mine.several) : Status::ok());
+    }
+    const std::int64_t first = exclusive_prefix_sum(comm, mine.data);
     mm::ArrayCursor at(n, h.banner.symmetry, first);
     s = route_lines(comm, path, reader, router, h.data_line, round, [&](std::string_view line) {
       auto v = mm::parse_array_line(line, h.banner);

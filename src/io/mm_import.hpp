@@ -20,6 +20,7 @@
 #include <string>
 
 #include "io/matrix_writer.hpp"
+#include "io/mm_lines.hpp"
 #include "io/mm_parse.hpp"
 
 namespace lodestone::io {
@@ -30,6 +31,8 @@ struct ImportOptions {
   std::size_t chunk_bytes = std::size_t{8} << 20;
   // Entries a rank parses before all ranks exchange what they have.
   std::int64_t round_entries = std::int64_t{1} << 20;
+  // The longest line accepted (tests pass a small one).
+  std::size_t max_line_bytes = mm::kMaxLineBytes;
 };
 
 struct MatrixMarketRows {

@@ -27,8 +27,12 @@ InputFile::~InputFile() {
   if (fd_ >= 0) ::close(fd_);
 }
 
-LineReader::LineReader(int fd, std::int64_t begin, std::int64_t end, std::size_t chunk_bytes)
-    : fd_(fd), file_pos_(begin), end_(end), chunk_(std::max<std::size_t>(chunk_bytes, 1)) {}
+std::string too_long_message(std::size_t max_line) {
+  return fmt::format("longer than {} bytes (a file with CR-only line ends, or not a text file?)", max_line);
+}
+
+LineReader::LineReader(int fd, std::int64_t begin, std::int64_t end, std::size_t chunk_bytes, std::size_t max_line)
+    : fd_(fd), file_pos_(begin), end_(end), chunk_(std::max<std::size_t>(chunk_bytes, 1)), max_line_(max_line) {}
 
 // Appends up to one chunk after the unread part; false if nothing was added.
 bool LineReader::fill() {
@@ -61,8 +65,14 @@ bool LineReader::next(std::string_view& line) {
   for (;;) {
     const char* begin = buf_.data() + pos_;
     const void* nl = len_ > searched ? std::memchr(buf_.data() + searched, '\n', len_ - searched) : nullptr;
+    const std::size_t at = nl ? static_cast<std::size_t>(static_cast<const char*>(nl) - buf_.data()) : len_;
+    // The same verdict whatever the chunk size: a line is refused once it has
+    // more than max_line bytes, and the buffer never holds much more than that.
+    if (at - pos_ > max_line_) {
+      status_ = Status::input(too_long_message(max_line_));
+      return false;
+    }
     if (nl) {
-      const std::size_t at = static_cast<std::size_t>(static_cast<const char*>(nl) - buf_.data());
       line = std::string_view(begin, at - pos_);
       pos_ = at + 1;
       return true;
@@ -77,22 +87,28 @@ bool LineReader::next(std::string_view& line) {
   return true;
 }
 
-Result<std::int64_t> line_start_at_or_after(int fd, std::int64_t lo, std::int64_t b, std::int64_t size) {
+Result<std::int64_t> line_start_at_or_after(int fd, std::int64_t lo, std::int64_t b, std::int64_t size,
+                                            std::size_t max_line) {
   if (b <= lo) return lo;
   if (b >= size) return size;
   // b starts a line if the byte before it is a newline; otherwise skip to after the next one.
-  LineReader r(fd, b - 1, size, 4096);
+  LineReader r(fd, b - 1, size, 4096, max_line);
   std::string_view line;
-  if (!r.next(line)) return r.status().is_ok() ? size : Result<std::int64_t>(r.status());
+  if (!r.next(line)) {
+    if (r.status().is_ok()) return size;
+    // Which line this is would take counting every line before it: say where it is.
+    return Status::input(fmt::format("the line running through byte {} is {}", b, r.status().message()));
+  }
   return r.offset();
 }
 
-Result<ByteRange> line_aligned_share(int fd, std::int64_t lo, std::int64_t size, int part, int parts) {
+Result<ByteRange> line_aligned_share(int fd, std::int64_t lo, std::int64_t size, int part, int parts,
+                                     std::size_t max_line) {
   const std::int64_t bytes = size - lo;
   auto at = [&](int k) { return lo + static_cast<std::int64_t>(static_cast<__int128>(bytes) * k / parts); };
-  auto b = line_start_at_or_after(fd, lo, at(part), size);
+  auto b = line_start_at_or_after(fd, lo, at(part), size, max_line);
   if (!b) return b.status();
-  auto e = line_start_at_or_after(fd, lo, at(part + 1), size);
+  auto e = line_start_at_or_after(fd, lo, at(part + 1), size, max_line);
   if (!e) return e.status();
   return ByteRange{*b, *e};
 }

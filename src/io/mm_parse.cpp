@@ -10,6 +10,7 @@
 #include <cstdlib>
 #include <limits>
 #include <optional>
+#include <utility>
 #include <vector>
 
 namespace lodestone::io::mm {
@@ -33,12 +34,6 @@ std::string lower(std::string_view s) {
   std::string out(s);
   for (auto& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
   return out;
-}
-
-// Quotes user text in a message, shortened so the message stays one short line.
-std::string quote(std::string_view s) {
-  if (s.size() > 40) return fmt::format("'{}...'", s.substr(0, 37));
-  return fmt::format("'{}'", s);
 }
 
 std::optional<std::int64_t> to_int(std::string_view s) {
@@ -70,6 +65,34 @@ RealError to_real(std::string_view s, double& out) {
 }
 
 Status bad(std::string text) { return Status::input(std::move(text)); }
+
+}  // namespace
+
+std::string_view compression_of(std::string_view first_bytes) {
+  static constexpr std::pair<std::string_view, std::string_view> kSignatures[] = {
+      {std::string_view("\x1f\x8b", 2), "gzip"},
+      {std::string_view("\xfd" "7zXZ\0", 6), "xz"},
+      {std::string_view("\x28\xb5\x2f\xfd", 4), "zstd"},
+  };
+  for (const auto& [magic, name] : kSignatures)
+    if (first_bytes.substr(0, magic.size()) == magic) return name;
+  return {};
+}
+
+// Quoted, with a NUL or a control byte that would cut the message or reach the
+// terminal shown as \xHH instead; shortened so the message stays one short line.
+std::string quote(std::string_view text, std::size_t keep) {
+  const bool cut = text.size() > keep + 3;
+  std::string out = "'";
+  for (unsigned char c : cut ? text.substr(0, keep) : text) {
+    if (c >= 0x20 && c < 0x7f) out += static_cast<char>(c);
+    else out += fmt::format("\\x{:02x}", c);
+  }
+  out += cut ? "...'" : "'";
+  return out;
+}
+
+namespace {
 
 Result<double> parse_value(std::string_view tok, Field field) {
   if (field == Field::integer) {

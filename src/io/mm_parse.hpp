@@ -48,6 +48,14 @@ const char* symmetry_name(Symmetry s);
 // Both may appear anywhere after the banner and are skipped.
 bool is_skippable(std::string_view line);
 
+// The compression a file's first bytes announce ("gzip", say), or "" if none:
+// such a file must be decompressed before it is imported.
+std::string_view compression_of(std::string_view first_bytes);
+
+// File text fit for a one-line message: bytes outside printable ASCII are
+// written as \xHH, and text longer than `keep` bytes is cut short with "...".
+std::string quote(std::string_view text, std::size_t keep = 37);
+
 // "%%MatrixMarket matrix <format> <field> <symmetry>", words case-insensitive.
 // Refuses complex and hermitian (real arithmetic only), pattern with array.
 Result<Banner> parse_banner(std::string_view line);

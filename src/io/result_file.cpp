@@ -7,6 +7,8 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <new>
+#include <stdexcept>
 #include <utility>
 
 #include "io/atomic_output.hpp"
@@ -255,6 +257,20 @@ Status write_result_file(MPI_Comm comm, const std::string& path, const SolveResu
 
 namespace {
 
+// Runs an allocation sized from the file, turning std::bad_alloc into a Status
+// the ranks can agree on (a lone rank throwing would leave the others waiting).
+template <class F>
+Status allocate(const std::string& path, const char* what, F&& f) {
+  try {
+    f();
+    return Status::ok();
+  } catch (const std::bad_alloc&) {
+    return Status::input(fmt::format("{}: out of memory while reading {}", path, what));
+  } catch (const std::length_error&) {
+    return Status::input(fmt::format("{}: {} would not fit in memory", path, what));
+  }
+}
+
 // Reads the header from an open file. Every rank makes the same sequence of
 // metadata calls (the file is opened with collective metadata operations), so
 // validation reaches the same verdict everywhere; errors are agreed anyway.
@@ -365,6 +381,14 @@ Result<OpenResult> open_result(MPI_Comm comm, const std::string& path) {
       return fail(fmt::format("'eigenvectors' is {} x {}; expected {} columns, one per eigenvalue", vecs.dims[0],
                               vecs.dims[1], h.pairs));
     if (h.rows <= 0) return fail("'eigenvectors' has no rows");
+    // Every size below comes from the file and sizes an allocation on every rank:
+    // they must agree with each other before anything is allocated.
+    if (h.pairs < 0 || h.pairs > h.rows)
+      return fail(fmt::format("'eigenvalues' has {} entries but 'eigenvectors' has {} rows; a result has at most "
+                              "one pair per row (damaged file?)",
+                              h.pairs, h.rows));
+    if (8.0 * static_cast<double>(h.rows) * static_cast<double>(h.pairs) > 0x1p62)
+      return fail(fmt::format("'eigenvectors' is {} x {}, too large for any matrix (damaged file?)", h.rows, h.pairs));
     if (h.converged < 0 || h.converged > h.pairs)
       return fail(fmt::format("attribute 'converged' is {}; expected 0 to {}", h.converged, h.pairs));
 
@@ -384,6 +408,9 @@ Result<OpenResult> open_result(MPI_Comm comm, const std::string& path) {
     auto h6 = rd.dataset(hg + "/" + rl::kHistResiduals, true, 2, &resid);
     if (!h6) return h6.status();
     h.history = it.dims[0];
+    if (h.history < 0 || h.history > rl::kMaxHistoryRecords)
+      return fail(fmt::format("'/history' has {} records; a results file holds at most {} (damaged file?)", h.history,
+                              rl::kMaxHistoryRecords));
     if (mv.dims[0] != h.history || sec.dims[0] != h.history || conv.dims[0] != h.history)
       return fail("the datasets in '/history' differ in length");
     for (const auto* s : {&est, &resid})
@@ -396,7 +423,7 @@ Result<OpenResult> open_result(MPI_Comm comm, const std::string& path) {
 
   // The small replicated arrays, read by every rank.
   auto read_all = [&](const char* name, std::vector<double>* out) -> Status {
-    out->assign(static_cast<std::size_t>(h.pairs), 0.0);
+    LODESTONE_TRY(agree(comm, allocate(path, name, [&] { out->assign(static_cast<std::size_t>(h.pairs), 0.0); })));
     if (h.pairs == 0) return Status::ok();  // nothing to transfer (HDF5 refuses an empty transfer)
     h5::Handle ds(H5Dopen2(file->get(), name, H5P_DEFAULT));
     Status s = h5::read_range(ds.get(), H5T_NATIVE_DOUBLE, 0, h.pairs, out->data());
@@ -450,7 +477,8 @@ Result<SolveResult> read_result_file(MPI_Comm comm, const std::string& path, std
   r.elapsed_seconds = h.elapsed_seconds;
 
   const std::int64_t k = h.pairs, m = row_end - row_begin;
-  r.vectors.resize(static_cast<std::size_t>(m * k));
+  LODESTONE_TRY(
+      agree(comm, allocate(path, "the eigenvectors", [&] { r.vectors.resize(static_cast<std::size_t>(m * k)); })));
   if (k > 0) {
     h5::Handle ds(H5Dopen2(file, (std::string("/") + rl::kEigenvectors).c_str(), H5P_DEFAULT));
     std::vector<double> rowmajor;
@@ -466,8 +494,14 @@ Result<SolveResult> read_result_file(MPI_Comm comm, const std::string& path, std
   }
 
   const std::int64_t hc = h.history;
-  std::vector<std::int64_t> iteration(hc), matvecs(hc), converged(hc);
-  std::vector<double> seconds(hc), estimates(hc * k), residuals(hc * k);
+  std::vector<std::int64_t> iteration, matvecs, converged;
+  std::vector<double> seconds, estimates, residuals;
+  LODESTONE_TRY(agree(comm, allocate(path, "the history", [&] {
+                  for (auto* v : {&iteration, &matvecs, &converged}) v->resize(static_cast<std::size_t>(hc));
+                  seconds.resize(static_cast<std::size_t>(hc));
+                  estimates.resize(static_cast<std::size_t>(hc * k));
+                  residuals.resize(static_cast<std::size_t>(hc * k));
+                })));
   auto read = [&](const char* name, hid_t type, bool two_d, void* out) -> Status {
     const std::string full = std::string("/") + rl::kHistory + "/" + name;
     if (hc == 0 || (two_d && k == 0)) return Status::ok();  // empty: nothing to transfer
@@ -481,16 +515,18 @@ Result<SolveResult> read_result_file(MPI_Comm comm, const std::string& path, std
   LODESTONE_TRY(read(rl::kHistConverged, H5T_NATIVE_INT64, false, converged.data()));
   LODESTONE_TRY(read(rl::kHistEstimates, H5T_NATIVE_DOUBLE, true, estimates.data()));
   LODESTONE_TRY(read(rl::kHistResiduals, H5T_NATIVE_DOUBLE, true, residuals.data()));
-  r.history.resize(static_cast<std::size_t>(hc));
-  for (std::int64_t i = 0; i < hc; ++i) {
-    auto& rec = r.history[static_cast<std::size_t>(i)];
-    rec.iteration = iteration[i];
-    rec.matvecs = matvecs[i];
-    rec.seconds = seconds[i];
-    rec.converged = converged[i];
-    rec.estimates.assign(estimates.begin() + i * k, estimates.begin() + (i + 1) * k);
-    rec.residuals.assign(residuals.begin() + i * k, residuals.begin() + (i + 1) * k);
-  }
+  LODESTONE_TRY(agree(comm, allocate(path, "the history", [&] {
+                  r.history.resize(static_cast<std::size_t>(hc));
+                  for (std::int64_t i = 0; i < hc; ++i) {
+                    auto& rec = r.history[static_cast<std::size_t>(i)];
+                    rec.iteration = iteration[i];
+                    rec.matvecs = matvecs[i];
+                    rec.seconds = seconds[i];
+                    rec.converged = converged[i];
+                    rec.estimates.assign(estimates.begin() + i * k, estimates.begin() + (i + 1) * k);
+                    rec.residuals.assign(residuals.begin() + i * k, residuals.begin() + (i + 1) * k);
+                  }
+                })));
   return r;
 }
 

@@ -48,6 +48,9 @@ inline constexpr const char* kHistSeconds = "seconds";
 inline constexpr const char* kHistConverged = "converged";
 inline constexpr const char* kHistEstimates = "estimates";
 inline constexpr const char* kHistResiduals = "residuals";
+// The most history records a results file may hold: a solve keeps its history
+// within this (state/history_cap.hpp), and a reader refuses a file claiming more.
+inline constexpr std::int64_t kMaxHistoryRecords = 4096;
 
 }  // namespace lodestone::io::result_layout
 

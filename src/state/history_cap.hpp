@@ -6,12 +6,14 @@
 #include <cstddef>
 #include <vector>
 
+#include "io/result_file.hpp"
 #include "lodestone/result.hpp"
 
 namespace lodestone::state {
 
-// Records a history keeps at most: about 1 MiB with K = 16.
-inline constexpr std::size_t kHistoryCap = 4096;
+// Records a history keeps at most: about 1 MiB with K = 16. A results file
+// holds the whole history, and its reader refuses more than this.
+inline constexpr std::size_t kHistoryCap = static_cast<std::size_t>(io::result_layout::kMaxHistoryRecords);
 
 // With more than `cap` records (cap >= 3), drops every second record between the
 // first and the last, which both stay. Applied after every new record, the history

@@ -262,3 +262,51 @@ TEST(MmImport, FailureLeavesNoOutput) {
   ASSERT_FALSE(same.is_ok());
   EXPECT_NE(same.status().message().find("overwrite an input"), std::string::npos);
 }
+
+TEST(MmImport, OverLongLineIsRefusedOnEveryRank) {
+  // A cap of 48 bytes (the banner has 45) stands in for the 1 MiB one. On one rank the line is
+  // named; on more, a share boundary may fall inside it first.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  io::ImportOptions o = tiny();
+  o.max_line_bytes = 48;
+  const std::string text =
+      "%%MatrixMarket matrix coordinate real general\n3 3 3\n1 1 1\n" + std::string(64, '2') + "\n3 3 1\n";
+  auto m = read_text(comm, "long.mtx", text, o);
+  ASSERT_FALSE(m.is_ok());
+  const std::string msg = m.status().message();
+  EXPECT_NE(msg.find("longer than 48 bytes (a file with CR-only line ends, or not a text file?)"), std::string::npos)
+      << msg;
+  if (comm_size(comm) == 1) {
+    EXPECT_NE(msg.find(": line 4: longer than 48 bytes"), std::string::npos) << msg;
+  }
+  // A banner line over the cap is line 1.
+  auto first = read_text(comm, "long-banner.mtx", std::string(60, '%') + "\n", o);
+  ASSERT_FALSE(first.is_ok());
+  EXPECT_NE(first.status().message().find(": line 1: longer than 48 bytes"), std::string::npos)
+      << first.status().message();
+}
+
+TEST(MmImport, ArrayLineWithSeveralValuesIsNamed) {
+  // Whether the count then comes out wrong or right, the message names the line.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  const std::string head = "%%MatrixMarket matrix array real general\n2 2\n";
+  for (const std::string& body : {std::string("1 2\n3 4\n"), std::string("1\n% c\n2\n3 5\n"),
+                                  std::string("1\n2 5\n3\n4\n")}) {
+    auto m = read_text(comm, "several.mtx", head + body);
+    ASSERT_FALSE(m.is_ok());
+    const int line = body[1] == ' ' ? 3 : body[1] == '\n' && body[2] == '%' ? 6 : 4;
+    EXPECT_NE(m.status().message().find(fmt::format(": line {}: expected one value per line (array format), found '",
+                                                    line)),
+              std::string::npos)
+        << m.status().message();
+  }
+}
+
+TEST(MmImport, CompressedFileIsRefusedAsSuch) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  auto m = read_text(comm, "packed.mtx.gz", std::string("\x1f\x8b\x08\x00\x00\x00\x00\x00\x00\x03\n", 11));
+  ASSERT_FALSE(m.is_ok());
+  EXPECT_NE(m.status().message().find("packed.mtx.gz: the file is compressed (gzip); decompress it first"),
+            std::string::npos)
+      << m.status().message();
+}

@@ -80,3 +80,42 @@ TEST(MmLines, MissingFileIsNamed) {
   ASSERT_FALSE(file.is_ok());
   EXPECT_NE(file.status().message().find("/nonexistent/dir/matrix.mtx: cannot open"), std::string::npos);
 }
+
+TEST(MmLines, LongLinesAreRefusedWhateverTheChunk) {
+  // With a cap of 8 bytes a line of 8 passes and one of 9 is refused, whatever
+  // the chunk size: the buffer never has to hold a whole over-long line.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  std::string path = write_text(comm, "long.txt", "12345678\n123456789\nx\n");
+  auto file = InputFile::open(path);
+  ASSERT_TRUE(file.is_ok());
+  for (std::size_t chunk : {1, 3, 8, 9, 64}) {
+    LineReader r(file->fd(), 0, file->size(), chunk, 8);
+    std::string_view line;
+    ASSERT_TRUE(r.next(line)) << "chunk " << chunk;
+    EXPECT_EQ(line, "12345678");
+    EXPECT_FALSE(r.next(line)) << "chunk " << chunk;
+    ASSERT_FALSE(r.status().is_ok()) << "chunk " << chunk;
+    EXPECT_EQ(r.status().message(), "longer than 8 bytes (a file with CR-only line ends, or not a text file?)");
+  }
+}
+
+TEST(MmLines, FileWithoutNewlinesIsRefusedEverywhere) {
+  // A zero-filled file: one endless line. Reading it and placing a share
+  // boundary inside it both fail instead of buffering it whole.
+  MPI_Comm comm = MPI_COMM_WORLD;
+  std::string path = write_text(comm, "zeros.txt", std::string(100, '\0'));
+  auto file = InputFile::open(path);
+  ASSERT_TRUE(file.is_ok());
+  LineReader r(file->fd(), 0, file->size(), 4, 8);
+  std::string_view line;
+  EXPECT_FALSE(r.next(line));
+  EXPECT_FALSE(r.status().is_ok());
+  auto share = line_aligned_share(file->fd(), 0, file->size(), 1, 2, 8);
+  ASSERT_FALSE(share.is_ok());
+  EXPECT_EQ(share.status().message(),
+            "the line running through byte 50 is longer than 8 bytes (a file with CR-only line ends, or not a text file?)");
+  // The same file with a cap above its size is one (last) line.
+  LineReader whole(file->fd(), 0, file->size(), 4, 100);
+  ASSERT_TRUE(whole.next(line));
+  EXPECT_EQ(line.size(), 100u);
+}

@@ -185,3 +185,25 @@ TEST(MmLines, CommentsAndBlankLinesAreSkipped) {
   EXPECT_TRUE(is_skippable("\r"));
   EXPECT_FALSE(is_skippable(" 1 2 3"));
 }
+
+TEST(MmQuote, BytesOutsidePrintableTextAreEscaped) {
+  EXPECT_EQ(quote(std::string_view("a\0b\x1f" "c", 5)), "'a\\x00b\\x1fc'");
+  EXPECT_EQ(quote("\xff\t"), "'\\xff\\x09'");
+  EXPECT_EQ(quote(std::string(40, 'a')), "'" + std::string(40, 'a') + "'");
+  std::string escaped;
+  for (int i = 0; i < 37; ++i) escaped += "\\x01";
+  EXPECT_EQ(quote(std::string(41, '\x01')), "'" + escaped + "...'");
+  // A NUL inside a value no longer cuts the message short.
+  auto v = parse_array_line(std::string_view("1\0x", 3), banner("%%MatrixMarket matrix array real general"));
+  ASSERT_FALSE(v.is_ok());
+  EXPECT_EQ(v.status().message(), "value '1\\x00x' is not a number");
+}
+
+TEST(MmCompression, SignaturesAreNamed) {
+  EXPECT_EQ(compression_of(std::string_view("\x1f\x8b\x08\x00", 4)), "gzip");
+  EXPECT_EQ(compression_of(std::string_view("\xfd" "7zXZ\0\0", 7)), "xz");
+  EXPECT_EQ(compression_of("\x28\xb5\x2f\xfd"), "zstd");
+  EXPECT_EQ(compression_of("%%MatrixMarket matrix coordinate real general"), "");
+  EXPECT_EQ(compression_of("\x1f"), "");
+  EXPECT_EQ(compression_of(""), "");
+}

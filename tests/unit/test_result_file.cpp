@@ -1,5 +1,6 @@
 // The results file: written collectively, read back on any row ranges and rank counts.
 #include <gtest/gtest.h>
+#include <hdf5.h>
 #include <petscmat.h>
 
 #include <cmath>
@@ -294,4 +295,83 @@ TEST(ResultFile, RankZeroFactsAreWritten) {
   ASSERT_TRUE(read.is_ok()) << read.status().message();
   EXPECT_EQ(read->elapsed_seconds, 1.5);
   EXPECT_EQ(read->method, "block");
+}
+
+namespace {
+
+// Rank 0 swaps datasets of a written results file for ones that declare the
+// given shapes but store nothing (a file of a few kilobytes claiming terabytes).
+void declare_shapes(MPI_Comm comm, const std::string& path,
+                    const std::vector<std::pair<std::string, std::vector<hsize_t>>>& shapes) {
+  if (comm_rank(comm) == 0) {
+    hid_t f = H5Fopen(path.c_str(), H5F_ACC_RDWR, H5P_DEFAULT);
+    ASSERT_GE(f, 0);
+    for (const auto& [name, dims] : shapes) {
+      ASSERT_GE(H5Ldelete(f, name.c_str(), H5P_DEFAULT), 0) << name;
+      hid_t space = H5Screate_simple(static_cast<int>(dims.size()), dims.data(), nullptr);
+      hid_t dcpl = H5Pcreate(H5P_DATASET_CREATE);
+      std::vector<hsize_t> chunk(dims.size(), 1);
+      H5Pset_chunk(dcpl, static_cast<int>(chunk.size()), chunk.data());
+      const bool ints = name.find("iteration") != std::string::npos || name.find("matvecs") != std::string::npos ||
+                        name.find("converged") != std::string::npos;
+      hid_t ds = H5Dcreate2(f, name.c_str(), ints ? H5T_STD_I64LE : H5T_IEEE_F64LE, space, H5P_DEFAULT, dcpl,
+                            H5P_DEFAULT);
+      ASSERT_GE(ds, 0) << name;
+      H5Dclose(ds);
+      H5Pclose(dcpl);
+      H5Sclose(space);
+    }
+    H5Fclose(f);
+  }
+  MPI_Barrier(comm);
+}
+
+// Both readers refuse the file with the same message on every rank.
+void expect_refused(MPI_Comm comm, const std::string& path, const std::string& part) {
+  auto header = io::read_result_header(comm, path);
+  ASSERT_FALSE(header.is_ok());
+  EXPECT_NE(header.status().message().find(part), std::string::npos) << header.status().message();
+  EXPECT_EQ(header.status().exit_code(), 1);
+  RowRange mine = even_split(kN, comm_rank(comm), comm_size(comm));
+  auto full = read_result(comm, path, mine.begin, mine.end);
+  ASSERT_FALSE(full.is_ok());
+  EXPECT_EQ(full.status().message(), header.status().message());
+  EXPECT_EQ(min_all(comm, static_cast<std::int64_t>(full.status().message().size())),
+            max_all(comm, static_cast<std::int64_t>(full.status().message().size())));
+}
+
+}  // namespace
+
+TEST(ResultFile, DeclaredSizesAreCheckedBeforeAnythingIsAllocated) {
+  MPI_Comm comm = MPI_COMM_WORLD;
+  RowRange mine = even_split(kN, comm_rank(comm), comm_size(comm));
+  const hsize_t huge = hsize_t{1} << 40;
+  auto fresh = [&](const std::string& name) {
+    std::string path = test::temp_path(comm, name);
+    auto r = test::laplace1d_result(comm, kN, kK, mine.begin, mine.end, 7);
+    EXPECT_TRUE(write_result(comm, path, r).is_ok());
+    return path;
+  };
+
+  // 2^40 pairs (every per-pair array says so) for 23 rows.
+  std::string path = fresh("result-huge-pairs.h5");
+  declare_shapes(comm, path,
+                 {{"/eigenvalues", {huge}}, {"/eigenvalues_imag", {huge}}, {"/residual_norms", {huge}},
+                  {"/eigenvectors", {kN, huge}}, {"/history/estimates", {1, huge}}, {"/history/residuals", {1, huge}}});
+  expect_refused(comm, path, "'eigenvalues' has 1099511627776 entries but 'eigenvectors' has 23 rows");
+
+  // 2^40 rows and pairs: one pair per row, but no matrix is that large.
+  path = fresh("result-huge-both.h5");
+  declare_shapes(comm, path,
+                 {{"/eigenvalues", {huge}}, {"/eigenvalues_imag", {huge}}, {"/residual_norms", {huge}},
+                  {"/eigenvectors", {huge, huge}}, {"/history/estimates", {1, huge}}, {"/history/residuals", {1, huge}}});
+  expect_refused(comm, path, "'eigenvectors' is 1099511627776 x 1099511627776, too large");
+
+  // 2^40 history records.
+  path = fresh("result-huge-history.h5");
+  declare_shapes(comm, path,
+                 {{"/history/iteration", {huge}}, {"/history/matvecs", {huge}}, {"/history/seconds", {huge}},
+                  {"/history/converged", {huge}}, {"/history/estimates", {huge, kK}},
+                  {"/history/residuals", {huge, kK}}});
+  expect_refused(comm, path, "'/history' has 1099511627776 records; a results file holds at most 4096");
 }
