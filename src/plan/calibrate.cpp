@@ -18,6 +18,7 @@
 #include "lodestone/checkpoint.hpp"
 #include "lodestone/matrix.hpp"
 #include "lodestone/solver.hpp"
+#include "methods/method.hpp"
 #include "plan/matrix_facts.hpp"
 #include "plan/model.hpp"
 #include "support/collective.hpp"
@@ -198,8 +199,8 @@ Result<Calibration> calibrate(MPI_Comm comm, const CalibrationRequest& req) {
 
   std::string method = req.method;
   if (method == "auto") method = info.symmetric ? "chebyshev" : "krylov";
-  if (method != "power" && method != "block" && method != "chebyshev" && method != "krylov")
-    return Status::usage(fmt::format("--method '{}': expected auto, power, block, chebyshev or krylov", req.method));
+  if (!methods::find_method(method))
+    return Status::usage(fmt::format("--method '{}': expected auto, {}", req.method, methods::method_names()));
   if (method == "chebyshev" && !info.symmetric)
     return Status::usage("--method chebyshev needs a symmetric matrix; this one is not declared symmetric (use block)");
   const plan::MethodShape shape = plan::method_shape(method, req.pairs, req.block_size);
