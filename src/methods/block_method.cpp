@@ -23,6 +23,7 @@ class BlockMethod final : public SubspaceMethod {
 
   Status setup(algebra::Operator& op, const Problem& problem) override {
     LODESTONE_TRY(init(op, problem));
+    LODESTONE_TRY(shift_to_spectrum_end());
     const int p = problem.pairs;
     LODESTONE_TRY(start_block(problem.block_size > 0 ? problem.block_size : p + std::max(2, (p + 1) / 2)));
     return lock_converged();

@@ -51,6 +51,8 @@ Result<SpectrumBounds> lanczos_bounds(algebra::Operator& op, int steps, std::uin
   SpectrumBounds out;
   out.lower = std::max(-norm_estimate, eig->values.front() - widen);
   out.upper = std::min(norm_estimate, eig->values.back() + widen);
+  out.ritz_lower = eig->values.front();
+  out.ritz_upper = eig->values.back();
   return out;
 }
 

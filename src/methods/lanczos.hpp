@@ -13,6 +13,7 @@ namespace lodestone::methods {
 struct SpectrumBounds {
   double lower = 0;  // estimate at or below the smallest eigenvalue
   double upper = 0;  // estimate at or above the largest eigenvalue
+  double ritz_lower = 0, ritz_upper = 0;  // the extreme Ritz values themselves (inside the spectrum)
 };
 
 // Collective. `steps` Lanczos steps from a hashed random start (no

@@ -40,6 +40,7 @@ class PowerMethod final : public SubspaceMethod {
 
   Status setup(algebra::Operator& op, const Problem& problem) override {
     LODESTONE_TRY(init(op, problem));
+    LODESTONE_TRY(shift_to_spectrum_end());
     LODESTONE_TRY(start_block(1));
     return lock_if_converged();
   }

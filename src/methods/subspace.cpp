@@ -8,6 +8,7 @@
 #include <limits>
 #include <numeric>
 
+#include "methods/lanczos.hpp"
 #include "support/collective.hpp"
 
 namespace lodestone::methods {
@@ -16,6 +17,9 @@ using algebra::Block;
 using algebra::Small;
 
 namespace {
+
+// Lanczos steps of shift_to_spectrum_end() (as for the Chebyshev filter's bounds).
+constexpr int kShiftLanczosSteps = 24;
 
 Result<Block> copy_of(Mat a, const Block& src, int c0, int m) {
   auto b = Block::like(a, m);
@@ -48,6 +52,14 @@ Status SubspaceMethod::init(algebra::Operator& op, const Problem& problem) {
   t_ = Small(0, 0);
   iterations_ = 0;
   stream_ = 1;
+  return Status::ok();
+}
+
+Status SubspaceMethod::shift_to_spectrum_end() {
+  if (!problem_.symmetric || problem_.has_shift || problem_.selection == Selection::magnitude) return Status::ok();
+  auto bounds = lanczos_bounds(*op_, kShiftLanczosSteps, problem_.seed, 1u << 30, problem_.norm_estimate);
+  if (!bounds) return bounds.status();
+  sigma_ = problem_.selection == Selection::largest ? bounds->ritz_lower : bounds->ritz_upper;
   return Status::ok();
 }
 
@@ -408,6 +420,7 @@ Status SubspaceMethod::save(MethodState& state) {
     state.blocks.emplace_back("active", std::move(*x));
   }
   state.scalars["locked_t"] = t_.a;
+  state.scalars["shift"] = {sigma_};
   state.scalars["counters"] = {static_cast<double>(locked_), static_cast<double>(iterations_),
                                static_cast<double>(stream_)};
   return save_extra(state);
@@ -415,6 +428,7 @@ Status SubspaceMethod::save(MethodState& state) {
 
 Status SubspaceMethod::restore(algebra::Operator& op, const Problem& problem, MethodState& state) {
   LODESTONE_TRY(init(op, problem));
+  if (const auto& shift = state.scalars["shift"]; shift.size() == 1) sigma_ = shift[0];
   auto counters = state.scalars["counters"];
   if (counters.size() != 3) return Status::input("the saved method state has no counters");
   const int locked = static_cast<int>(counters[0]);

@@ -32,6 +32,10 @@ class SubspaceMethod : public Method {
   double power_shift() const { return sigma_; }
 
   Status init(algebra::Operator& op, const Problem& problem);
+  // Symmetric input, --select largest or smallest, no --shift: moves sigma from
+  // -+||A||_est to the far end of the spectrum as a short Lanczos run brackets it,
+  // which shrinks every convergence ratio |lambda_unwanted - sigma| / |lambda_wanted - sigma|.
+  Status shift_to_spectrum_end();
   // Starts the active block: `width` columns (at most n; the columns beyond K are
   // the guard), random and orthonormal, with one product and Rayleigh-Ritz.
   Status start_block(int width);

@@ -120,6 +120,31 @@ TEST(MethodLaplace, TwoDimensionalLargestAndSmallest) {
   }
 }
 
+// Without --shift, block and power iterate with A - sigma I where sigma is the far
+// end of the spectrum as a short Lanczos run finds it (about 0 here), not -||A||_est
+// (-4): the ratio that sets the convergence, (lambda_next - sigma) / (lambda_K - sigma),
+// then falls from about 1 - gap/8 to 1 - gap/4, so they need about half the products.
+TEST(MethodLaplace, LargestShiftsToTheFarEndOfTheSpectrum) {
+  const std::int64_t n = 40;
+  auto m = load_laplace1d(n);
+  for (const char* method : {"block", "power"}) {
+    SCOPED_TRACE(method);
+    const std::int64_t k = std::string(method) == "power" ? 1 : 3;
+    auto far_end = solve(m, test::quiet_options(k, method, "largest"));
+    ASSERT_TRUE(far_end.is_ok()) << far_end.status().message();
+    auto o = test::quiet_options(k, method, "largest");
+    o.has_shift = true;
+    o.shift = -4.0;  // -||A||_est = -sqrt(||A||_1 ||A||_inf), the shift used before the Lanczos run
+    auto by_norm = solve(m, o);
+    ASSERT_TRUE(by_norm.is_ok()) << by_norm.status().message();
+    expect_values(*far_end, lap1_all(n), k, false);
+    expect_values(*by_norm, lap1_all(n), k, false);
+    expect_certified(m, *far_end);
+    EXPECT_LT(static_cast<double>(far_end->matvecs), 0.75 * static_cast<double>(by_norm->matvecs))
+        << far_end->matvecs << " products with the far-end shift, " << by_norm->matvecs << " with -||A||_est";
+  }
+}
+
 TEST(MethodLaplace, AutoPicksChebyshevForSymmetric) {
   auto m = load_laplace1d(30);
   auto o = test::quiet_options(2, "auto", "magnitude");
