@@ -159,6 +159,9 @@ Result<std::string> job_script(const Plan& plan, const JobOptions& options);
 // for names, anything but letters, digits and . _ - (job name: first a letter).
 Status check_script_path(const std::string& what, const std::string& value);
 Status check_script_name(const std::string& what, const std::string& value);
+// Refuses a matrix, --result, --checkpoint (or its FILE.previous) and script that are
+// not all different files: the job would overwrite one with another at run time.
+Status check_job_paths(const std::string& matrix, const JobOptions& options);
 // Single-quotes a value for the shell: abc -> 'abc', it's -> 'it'\''s'.
 std::string shell_quote(const std::string& value);
 
