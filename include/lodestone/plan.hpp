@@ -128,6 +128,7 @@ struct Plan {
   std::int64_t job_walltime = 0;      // seconds requested per job
   std::int64_t jobs_low = 1, jobs_high = 1;
   std::int64_t signal_margin = 0;     // seconds before the limit the solver is told to stop
+  std::int64_t signal_slack = 0;      // seconds by which the warning may come early (Slurm: 60)
   std::int64_t checkpoint_interval = 0;
   double checkpoint_bytes = 0, checkpoint_seconds = 0;
   std::vector<std::string> warnings;
