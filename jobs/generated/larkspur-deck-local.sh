@@ -5,6 +5,7 @@
 # Plan for larkspur-deck.h5 (group /matrix)
 #   matrix                360000 x 360000, 1797000 nonzeros (CSR), symmetric
 #   method                chebyshev (auto: the matrix is symmetric), 8 pairs, block of 12 vectors, filter degree 10
+#   solve options         --select=smallest (passed to the script's solve)
 #   scheduler             local
 #   allocation            1 node x 8 ranks = 8 ranks (8 cores, 32.0 GiB per node)
 #   sized by              memory: one node holds the matrix with 8 ranks, one per core
@@ -65,6 +66,7 @@ if [ "$cores" -gt 0 ] && [ "$ranks" -gt "$cores" ]; then
 fi
 solve_args=(solve "$matrix" --group "$group" --pairs "$pairs" --method "$method"
   --out "$result" --checkpoint "$checkpoint" --resume --checkpoint-every "$checkpoint_every")
+solve_args+=(--select=smallest)
 
 # Stop requests reach this shell. Each is passed to the solver as USR1 (mpirun forwards
 # USR1 to every rank), and the solver checkpoints at its next iteration boundary and
