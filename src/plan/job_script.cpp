@@ -187,6 +187,15 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   return s;
 }
 
+// A cancelled batch job whose solver was ended before it could checkpoint (mpirun got the
+// TERM too): say it was a cancel, not a failure.
+std::string cancelled_without_checkpoint() {
+  return "if [ -n \"$cancelled\" ] && { [ \"$status\" -eq 1 ] || [ \"$status\" -gt 128 ]; }; then\n"
+         "  echo \"lodestone job: cancelled (TERM before the time limit) before the solver wrote a checkpoint; not resubmitting. Submit this script again to start over.\" >&2\n"
+         "  exit \"$status\"\n"
+         "fi\n";
+}
+
 // What every scheduler does with a status other than 3.
 std::string other_statuses() {
   return "  0)\n"
@@ -232,6 +241,7 @@ std::string slurm_script(const Plan& p, const JobOptions& o) {
   s += "# that margin, so the solver also stops itself (--time-budget, half the margin later than\n";
   s += "# the warning) before an iteration it predicts would not end in time.\n";
   s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin / 2), false, cancel_before(p));
+  s += cancelled_without_checkpoint();
   s += fmt::format("max_requeues={}\n", 2 * p.jobs_high + 2);
   s += "case \"$status\" in\n";
   s += "  3)\n";
@@ -274,6 +284,7 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
   s += "cd \"${PBS_O_WORKDIR:-.}\" || exit 1\n";
   s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin), false, cancel_before(p));
   s += assign("script", o.script_path);
+  s += cancelled_without_checkpoint();
   s += fmt::format("max_jobs={}\n", 2 * p.jobs_high + 2);
   s += "case \"$status\" in\n";
   s += "  3)\n";
