@@ -65,9 +65,7 @@ std::string assign(const std::string& name, const std::string& value) {
 }
 
 // Variables and the solver launch, shared by every scheduler.
-// A TERM before `cancel_before` seconds of the job (batch scripts) is taken as a cancel.
-std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_budget, bool local,
-                         std::int64_t cancel_before = 0) {
+std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_budget, bool local) {
   std::string s;
   s += "set -u\n\n";
   s += "# What to run. Every value is single-quoted: nothing in it reaches the shell as code.\n";
@@ -145,14 +143,20 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
     s += "# shell passes the stop request on as above.\n";
     s += "if command -v setsid >/dev/null 2>&1; then launcher=(setsid \"${launcher[@]}\"); fi\n";
   } else {
-    s += "# The scheduler's warning is USR1; TERM comes at the time limit, or from a cancel (scancel,\n";
-    s += "# qdel). A TERM with no USR1 before it, earlier than the stop margin and a minute of slack\n";
-    s += "# before the walltime, is a cancel: the solver still checkpoints, but the chain ends here.\n";
-    s += fmt::format("limit_near={}\n", cancel_before);
+    s += "# TERM comes at the time limit, or from a cancel (scancel, qdel). A cancel must end the\n";
+    s += "# chain: the solver still checkpoints, but the script neither requeues nor resubmits.\n";
     s += "warned=''\n";
     s += "cancelled=''\n";
     s += "trap 'warned=1; ask_stop USR1' USR1\n";
-    s += "trap 'if [ -z \"$warned\" ] && [ \"$SECONDS\" -lt \"$limit_near\" ]; then cancelled=1; fi\n";
+    if (p.scheduler == Scheduler::slurm) {
+      s += "# Slurm warns (USR1) before its limit: a TERM that did not follow the warning is a cancel.\n";
+      s += "trap 'if [ -z \"$warned\" ]; then cancelled=1; fi\n";
+    } else {
+      s += "# PBS gives no warning: a TERM earlier than the stop margin and a minute of slack before\n";
+      s += "# the walltime (the job's clock starts before this script's) is a cancel.\n";
+      s += fmt::format("limit_near={}\n", std::max<std::int64_t>(0, p.job_walltime - p.signal_margin - 60));
+      s += "trap 'if [ -z \"$warned\" ] && [ \"$SECONDS\" -lt \"$limit_near\" ]; then cancelled=1; fi\n";
+    }
     s += "  ask_stop TERM' TERM\n";
   }
   s += "\n";
@@ -215,12 +219,6 @@ std::string other_statuses() {
          "    exit \"$status\" ;;\n";
 }
 
-// Seconds into a batch job before which a TERM with no warning is a cancel: the stop margin
-// and a minute of slack (the job's clock starts before the script's) before the walltime.
-std::int64_t cancel_before(const Plan& p) {
-  return std::max<std::int64_t>(0, p.job_walltime - p.signal_margin - 60);
-}
-
 std::string slurm_script(const Plan& p, const JobOptions& o) {
   std::string s = "#!/bin/bash\n";
   s += "# Slurm batch script written by `lodestone plan`; regenerate it rather than edit it.\n";
@@ -240,7 +238,7 @@ std::string slurm_script(const Plan& p, const JobOptions& o) {
   s += "# Slurm warns this shell (USR1) the stop margin before the limit. An iteration can outgrow\n";
   s += "# that margin, so the solver also stops itself (--time-budget, half the margin later than\n";
   s += "# the warning) before an iteration it predicts would not end in time.\n";
-  s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin / 2), false, cancel_before(p));
+  s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin / 2), false);
   s += cancelled_without_checkpoint();
   s += fmt::format("max_requeues={}\n", 2 * p.jobs_high + 2);
   s += "case \"$status\" in\n";
@@ -282,7 +280,7 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
   s += "# PBS gives no warning before the walltime ends: the solver stops itself in time\n";
   s += "# (--time-budget), and the next job in the chain resumes from the checkpoint.\n";
   s += "cd \"${PBS_O_WORKDIR:-.}\" || exit 1\n";
-  s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin), false, cancel_before(p));
+  s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin), false);
   s += assign("script", o.script_path);
   s += cancelled_without_checkpoint();
   s += fmt::format("max_jobs={}\n", 2 * p.jobs_high + 2);

@@ -1,9 +1,10 @@
 #!/usr/bin/env bash
-# The Slurm and PBS scripts that `lodestone plan` writes, told apart a cancel from a time
-# limit. scancel and qdel send TERM; so does the limit. A TERM that comes early, with no
-# USR1 warning before it, is a cancel: the solver still checkpoints, but the script must
-# not requeue (Slurm) or submit the next job (PBS), or a cancelled chain would go on
-# using the allocation. A stop at the limit, or the solver's own --time-budget, goes on.
+# The Slurm and PBS scripts that `lodestone plan` writes tell a cancel from a time limit.
+# scancel and qdel send TERM; so does the limit. A TERM with no USR1 warning before it
+# (under PBS, which never warns: one earlier than the margin before the walltime) is a
+# cancel: the solver still checkpoints, but the script must not requeue (Slurm) or submit
+# the next job (PBS), or a cancelled chain would go on using the allocation. A stop after
+# the warning, a late TERM under PBS, or the solver's own --time-budget, goes on.
 # The solver, qsub and scontrol are stand-ins; the script's clock ($SECONDS) is set from
 # the environment to stand for a TERM late in the job.
 source "$LODESTONE_SOURCE/tests/support/script_env.bash"
@@ -87,8 +88,8 @@ FAKE_EXIT=3 ./deck.pbs > log.txt 2>&1 || rc=$?
 [ "$rc" -eq 0 ] || { cat log.txt; fail "pbs time budget: status $rc, expected 0"; }
 submitted "qsub -W depend=afterany:1.fake" || { cat log.txt; fail "pbs time budget: no next job submitted"; }
 
-# Slurm, scancel: a TERM with no USR1 warning before it. No requeue.
-start deck.slurm
+# Slurm, scancel: a TERM with no USR1 warning before it, even late in the job. No requeue.
+start deck.slurm SECONDS=100000
 kill -TERM "$bg"
 finish
 [ "$rc" -eq 3 ] || { cat log.txt; fail "slurm cancel: status $rc, expected 3"; }
