@@ -235,9 +235,10 @@ std::string slurm_script(const Plan& p, const JobOptions& o) {
   if (!o.account.empty()) s += fmt::format("#SBATCH --account={}\n", o.account);
   if (!o.partition.empty()) s += fmt::format("#SBATCH --partition={}\n", o.partition);
   s += "\n";
-  s += "# Slurm warns this shell (USR1) the stop margin before the limit. An iteration can outgrow\n";
-  s += "# that margin, so the solver also stops itself (--time-budget, half the margin later than\n";
-  s += "# the warning) before an iteration it predicts would not end in time.\n";
+  s += "# Slurm warns this shell (USR1) the stop margin before the limit (or up to a minute\n";
+  s += "# earlier). An iteration can outgrow that margin, so the solver also stops itself\n";
+  s += "# (--time-budget, half the margin later than the warning) before an iteration it\n";
+  s += "# predicts would not end in time.\n";
   s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin / 2), false);
   s += cancelled_without_checkpoint();
   s += fmt::format("max_requeues={}\n", 2 * p.jobs_high + 2);
