@@ -128,6 +128,7 @@ struct Plan {
   std::int64_t job_walltime = 0;      // seconds requested per job
   std::int64_t jobs_low = 1, jobs_high = 1;
   std::int64_t signal_margin = 0;     // seconds before the limit the solver is told to stop
+  std::int64_t signal_slack = 0;      // seconds by which the warning may come early (Slurm: 60)
   std::int64_t checkpoint_interval = 0;
   double checkpoint_bytes = 0, checkpoint_seconds = 0;
   std::vector<std::string> warnings;
@@ -159,6 +160,9 @@ Result<std::string> job_script(const Plan& plan, const JobOptions& options);
 // for names, anything but letters, digits and . _ - (job name: first a letter).
 Status check_script_path(const std::string& what, const std::string& value);
 Status check_script_name(const std::string& what, const std::string& value);
+// Refuses a matrix, --result, --checkpoint (or its FILE.previous) and script that are
+// not all different files: the job would overwrite one with another at run time.
+Status check_job_paths(const std::string& matrix, const JobOptions& options);
 // Single-quotes a value for the shell: abc -> 'abc', it's -> 'it'\''s'.
 std::string shell_quote(const std::string& value);
 

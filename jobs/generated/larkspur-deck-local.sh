@@ -1,10 +1,11 @@
 #!/bin/bash
 # Workstation script written by `lodestone plan`; regenerate it rather than edit it.
-# Ctrl-C stops the solver at its next iteration with a checkpoint; run the script
-# again to resume.
+# Ctrl-C (or closing the terminal) stops the solver at its next iteration with a
+# checkpoint; run the script again to resume. A second Ctrl-C ends it at once.
 # Plan for larkspur-deck.h5 (group /matrix)
 #   matrix                360000 x 360000, 1797000 nonzeros (CSR), symmetric
 #   method                chebyshev (auto: the matrix is symmetric), 8 pairs, block of 12 vectors, filter degree 10
+#   solve options         --select=smallest (passed to the script's solve)
 #   scheduler             local
 #   allocation            1 node x 8 ranks = 8 ranks (8 cores, 32.0 GiB per node)
 #   sized by              memory: one node holds the matrix with 8 ranks, one per core
@@ -65,21 +66,47 @@ if [ "$cores" -gt 0 ] && [ "$ranks" -gt "$cores" ]; then
 fi
 solve_args=(solve "$matrix" --group "$group" --pairs "$pairs" --method "$method"
   --out "$result" --checkpoint "$checkpoint" --resume --checkpoint-every "$checkpoint_every")
+solve_args+=(--select=smallest)
 
-# A warning signal from the scheduler (or Ctrl-C) reaches this shell; it is passed to
-# the solver as USR1 (mpirun forwards USR1 to every rank), and the solver checkpoints
-# at its next iteration boundary and exits with status 3.
+# Stop requests reach this shell. Each is passed to the solver as USR1 (mpirun forwards
+# USR1 to every rank), and the solver checkpoints at its next iteration boundary and
+# exits with status 3.
 solver_pid=''
 stop_requested=''
-trap 'echo "lodestone job: USR1 received; asking the solver to checkpoint and stop" >&2
+# ask_stop and end_solver run from traps, which shellcheck does not follow.
+# shellcheck disable=SC2317
+ask_stop() {
+  echo "lodestone job: $1 received; asking the solver to checkpoint and stop" >&2
   stop_requested=1
-  if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' USR1
-trap 'echo "lodestone job: TERM received; asking the solver to checkpoint and stop" >&2
-  stop_requested=1
-  if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' TERM
-trap 'echo "lodestone job: INT received; asking the solver to checkpoint and stop" >&2
-  stop_requested=1
-  if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi' INT
+  if [ -n "$solver_pid" ]; then kill -USR1 "$solver_pid" 2>/dev/null || true; fi
+}
+# Ends mpirun (it ends the ranks, then exits) if it still runs; KILL if it lingers.
+# shellcheck disable=SC2317
+end_solver() {
+  if [ -z "$solver_pid" ] || ! kill -0 "$solver_pid" 2>/dev/null; then return 0; fi
+  kill -TERM "$solver_pid" 2>/dev/null || true
+  for _ in $(seq 100); do
+    kill -0 "$solver_pid" 2>/dev/null || return 0
+    sleep 0.1
+  done
+  kill -KILL "$solver_pid" 2>/dev/null || true
+}
+# However this shell ends, no solver is left running behind it.
+trap end_solver EXIT
+# Closing the terminal (HUP) or Ctrl-\ (QUIT) stops with a checkpoint like TERM. The first
+# Ctrl-C does too; a second one ends mpirun at once, without a checkpoint.
+interrupts=0
+stopped_at_once=''
+trap 'ask_stop USR1' USR1
+trap 'ask_stop TERM' TERM
+trap 'ask_stop HUP' HUP
+trap 'ask_stop QUIT' QUIT
+trap 'interrupts=$((interrupts + 1))
+  if [ "$interrupts" -lt 2 ]; then ask_stop INT; else
+    echo "lodestone job: second INT received; ending the solver now, without a checkpoint" >&2
+    if [ -n "$solver_pid" ] && kill -0 "$solver_pid" 2>/dev/null; then stopped_at_once=1; fi
+    end_solver
+  fi' INT
 # Ctrl-C signals every process in the terminal's foreground group. mpirun would take it
 # as a reason to end the ranks; in a session of its own it does not see it, and this
 # shell passes the stop request on as above.
@@ -98,6 +125,11 @@ done
 # The solver may have ended just after a trap interrupted the wait: its own status
 # (bash keeps it) replaces the interruption's.
 if [ "$status" -gt 128 ]; then wait "$solver_pid"; status=$?; fi
+# Ended at once by a second Ctrl-C: say so, whatever mpirun returned.
+if [ -n "$stopped_at_once" ]; then
+  echo "lodestone job: ended at once by a second interrupt (status $status); work since the last checkpoint is lost. Run this script again to resume (from $checkpoint if it exists)." >&2
+  exit 130
+fi
 # Asked to stop, but ended otherwise: mpirun got a signal too and ended the ranks (it then
 # says 1, or a signal's status). A checkpoint on disk is whole (written under a temporary
 # name, then renamed), so go on as after a stop; work since it was written is lost.

@@ -85,7 +85,8 @@ Command make_plan_command(CLI::App& root) {
   app->footer(
       "Sizes take K, M, G, T (powers of 1024). The summary explains every number; with --out the\n"
       "same summary heads the script. Exit status: 0 planned, 1 unreadable matrix or the run does\n"
-      "not fit, 2 malformed options.\n\n"
+      "not fit, 2 malformed options, or a matrix, --result, --checkpoint (or its FILE.previous)\n"
+      "and --out that are not all different files.\n\n"
       "Examples:\n"
       "  lodestone plan bridge.h5 --pairs 6 --scheduler slurm --cores-per-node 64 --node-memory 256G \\\n"
       "      --max-walltime 12:00:00 --account structures --out bridge.slurm\n"
@@ -112,6 +113,9 @@ Command make_plan_command(CLI::App& root) {
               LODESTONE_TRY(check_script_name("--job-name", job.job_name));
               LODESTONE_TRY(check_script_path("--out", a->out));
             }
+            // Files that would overwrite each other, refused before anything is read or written.
+            // Every rank looks at the same paths; they agree before going on.
+            LODESTONE_TRY(agree(comm, check_job_paths(req.matrix_path, job)));
             auto p = make_plan(comm, req);
             if (!p) return p.status();
             print_once(comm, describe_plan(*p));

@@ -80,7 +80,10 @@ std::string describe_plan(const Plan& p) {
   o += "Jobs\n";
   line("walltime per job", p.job_walltime > 0 ? plan::format_hms(p.job_walltime) : std::string("none (runs to the end)"));
   line("chained jobs", range(p.jobs_low, p.jobs_high));
-  line("stop margin", fmt::format("{} s before the limit", p.signal_margin));
+  line("stop margin", p.signal_slack > 0
+                          ? fmt::format("{} s before the limit, and up to {} s more (Slurm may warn early)",
+                                        p.signal_margin, p.signal_slack)
+                          : fmt::format("{} s before the limit", p.signal_margin));
   line("checkpoint", fmt::format("every {} s, {} each, ~{} to write", p.checkpoint_interval,
                                  human_bytes(p.checkpoint_bytes), seconds_text(p.checkpoint_seconds)));
   if (!p.warnings.empty()) {

@@ -101,23 +101,63 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   for (const std::string& w : plan::passed_solve_options(p)) s += fmt::format("solve_args+=({})\n", w);
   if (time_budget > 0) s += fmt::format("solve_args+=(--time-budget {}s)\n", time_budget);
   s += "\n";
-  s += "# A warning signal from the scheduler (or Ctrl-C) reaches this shell; it is passed to\n";
-  s += "# the solver as USR1 (mpirun forwards USR1 to every rank), and the solver checkpoints\n";
-  s += "# at its next iteration boundary and exits with status 3.\n";
+  s += "# Stop requests reach this shell. Each is passed to the solver as USR1 (mpirun forwards\n";
+  s += "# USR1 to every rank), and the solver checkpoints at its next iteration boundary and\n";
+  s += "# exits with status 3.\n";
   s += "solver_pid=''\n";
   s += "stop_requested=''\n";
-  for (const char* sig : {"USR1", "TERM", "INT"}) {
-    if (!local && std::string(sig) == "INT") continue;
-    s += fmt::format("trap 'echo \"lodestone job: {0} received; asking the solver to checkpoint and stop\" >&2\n"
-                     "  stop_requested=1\n"
-                     "  if [ -n \"$solver_pid\" ]; then kill -USR1 \"$solver_pid\" 2>/dev/null || true; fi' {0}\n",
-                     sig);
-  }
+  s += "# ask_stop and end_solver run from traps, which shellcheck does not follow.\n";
+  s += "# shellcheck disable=SC2317\n";
+  s += "ask_stop() {\n";
+  s += "  echo \"lodestone job: $1 received; asking the solver to checkpoint and stop\" >&2\n";
+  s += "  stop_requested=1\n";
+  s += "  if [ -n \"$solver_pid\" ]; then kill -USR1 \"$solver_pid\" 2>/dev/null || true; fi\n";
+  s += "}\n";
+  s += "# Ends mpirun (it ends the ranks, then exits) if it still runs; KILL if it lingers.\n";
+  s += "# shellcheck disable=SC2317\n";
+  s += "end_solver() {\n";
+  s += "  if [ -z \"$solver_pid\" ] || ! kill -0 \"$solver_pid\" 2>/dev/null; then return 0; fi\n";
+  s += "  kill -TERM \"$solver_pid\" 2>/dev/null || true\n";
+  s += "  for _ in $(seq 100); do\n";
+  s += "    kill -0 \"$solver_pid\" 2>/dev/null || return 0\n";
+  s += "    sleep 0.1\n";
+  s += "  done\n";
+  s += "  kill -KILL \"$solver_pid\" 2>/dev/null || true\n";
+  s += "}\n";
+  s += "# However this shell ends, no solver is left running behind it.\n";
+  s += "trap end_solver EXIT\n";
   if (local) {
+    s += "# Closing the terminal (HUP) or Ctrl-\\ (QUIT) stops with a checkpoint like TERM. The first\n";
+    s += "# Ctrl-C does too; a second one ends mpirun at once, without a checkpoint.\n";
+    s += "interrupts=0\n";
+    s += "stopped_at_once=''\n";
+    for (const char* sig : {"USR1", "TERM", "HUP", "QUIT"}) s += fmt::format("trap 'ask_stop {0}' {0}\n", sig);
+    s += "trap 'interrupts=$((interrupts + 1))\n";
+    s += "  if [ \"$interrupts\" -lt 2 ]; then ask_stop INT; else\n";
+    s += "    echo \"lodestone job: second INT received; ending the solver now, without a checkpoint\" >&2\n";
+    s += "    if [ -n \"$solver_pid\" ] && kill -0 \"$solver_pid\" 2>/dev/null; then stopped_at_once=1; fi\n";
+    s += "    end_solver\n";
+    s += "  fi' INT\n";
     s += "# Ctrl-C signals every process in the terminal's foreground group. mpirun would take it\n";
     s += "# as a reason to end the ranks; in a session of its own it does not see it, and this\n";
     s += "# shell passes the stop request on as above.\n";
     s += "if command -v setsid >/dev/null 2>&1; then launcher=(setsid \"${launcher[@]}\"); fi\n";
+  } else {
+    s += "# TERM comes at the time limit, or from a cancel (scancel, qdel). A cancel must end the\n";
+    s += "# chain: the solver still checkpoints, but the script neither requeues nor resubmits.\n";
+    s += "warned=''\n";
+    s += "cancelled=''\n";
+    s += "trap 'warned=1; ask_stop USR1' USR1\n";
+    if (p.scheduler == Scheduler::slurm) {
+      s += "# Slurm warns (USR1) before its limit: a TERM that did not follow the warning is a cancel.\n";
+      s += "trap 'if [ -z \"$warned\" ]; then cancelled=1; fi\n";
+    } else {
+      s += "# PBS gives no warning: a TERM earlier than the stop margin and a minute of slack before\n";
+      s += "# the walltime (the job's clock starts before this script's) is a cancel.\n";
+      s += fmt::format("limit_near={}\n", std::max<std::int64_t>(0, p.job_walltime - p.signal_margin - 60));
+      s += "trap 'if [ -z \"$warned\" ] && [ \"$SECONDS\" -lt \"$limit_near\" ]; then cancelled=1; fi\n";
+    }
+    s += "  ask_stop TERM' TERM\n";
   }
   s += "\n";
   s += "# Run in the background and wait, so a trap runs as soon as a signal arrives.\n";
@@ -133,6 +173,13 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   s += "# The solver may have ended just after a trap interrupted the wait: its own status\n";
   s += "# (bash keeps it) replaces the interruption's.\n";
   s += "if [ \"$status\" -gt 128 ]; then wait \"$solver_pid\"; status=$?; fi\n";
+  if (local) {
+    s += "# Ended at once by a second Ctrl-C: say so, whatever mpirun returned.\n";
+    s += "if [ -n \"$stopped_at_once\" ]; then\n";
+    s += "  echo \"lodestone job: ended at once by a second interrupt (status $status); work since the last checkpoint is lost. Run this script again to resume (from $checkpoint if it exists).\" >&2\n";
+    s += "  exit 130\n";
+    s += "fi\n";
+  }
   s += "# Asked to stop, but ended otherwise: mpirun got a signal too and ended the ranks (it then\n";
   s += "# says 1, or a signal's status). A checkpoint on disk is whole (written under a temporary\n";
   s += "# name, then renamed), so go on as after a stop; work since it was written is lost.\n";
@@ -142,6 +189,15 @@ std::string launch_block(const Plan& p, const JobOptions& o, std::int64_t time_b
   s += "  status=3\n";
   s += "fi\n\n";
   return s;
+}
+
+// A cancelled batch job whose solver was ended before it could checkpoint (mpirun got the
+// TERM too): say it was a cancel, not a failure.
+std::string cancelled_without_checkpoint() {
+  return "if [ -n \"$cancelled\" ] && { [ \"$status\" -eq 1 ] || [ \"$status\" -gt 128 ]; }; then\n"
+         "  echo \"lodestone job: cancelled (TERM before the time limit) before the solver wrote a checkpoint; not resubmitting. Submit this script again to start over.\" >&2\n"
+         "  exit \"$status\"\n"
+         "fi\n";
 }
 
 // What every scheduler does with a status other than 3.
@@ -179,13 +235,19 @@ std::string slurm_script(const Plan& p, const JobOptions& o) {
   if (!o.account.empty()) s += fmt::format("#SBATCH --account={}\n", o.account);
   if (!o.partition.empty()) s += fmt::format("#SBATCH --partition={}\n", o.partition);
   s += "\n";
-  s += "# Slurm warns this shell (USR1) the stop margin before the limit. An iteration can outgrow\n";
-  s += "# that margin, so the solver also stops itself (--time-budget, half the margin later than\n";
-  s += "# the warning) before an iteration it predicts would not end in time.\n";
+  s += "# Slurm warns this shell (USR1) the stop margin before the limit (or up to a minute\n";
+  s += "# earlier). An iteration can outgrow that margin, so the solver also stops itself\n";
+  s += "# (--time-budget, half the margin later than the warning) before an iteration it\n";
+  s += "# predicts would not end in time.\n";
   s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin / 2), false);
+  s += cancelled_without_checkpoint();
   s += fmt::format("max_requeues={}\n", 2 * p.jobs_high + 2);
   s += "case \"$status\" in\n";
   s += "  3)\n";
+  s += "    if [ -n \"$cancelled\" ]; then\n";
+  s += "      echo \"lodestone job: cancelled (TERM before the time limit); stopped with a checkpoint in $checkpoint and not requeueing. Submit this script again to resume.\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
   s += "    requeues=\"${SLURM_RESTART_COUNT:-0}\"\n";
   s += "    if [ \"$requeues\" -ge \"$max_requeues\" ]; then\n";
   s += "      echo \"lodestone job: stopped early again after $requeues requeues (limit $max_requeues); not requeueing. Submit this script again to resume from $checkpoint.\" >&2\n";
@@ -221,9 +283,14 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
   s += "cd \"${PBS_O_WORKDIR:-.}\" || exit 1\n";
   s += launch_block(p, o, std::max<std::int64_t>(60, p.job_walltime - p.signal_margin), false);
   s += assign("script", o.script_path);
+  s += cancelled_without_checkpoint();
   s += fmt::format("max_jobs={}\n", 2 * p.jobs_high + 2);
   s += "case \"$status\" in\n";
   s += "  3)\n";
+  s += "    if [ -n \"$cancelled\" ]; then\n";
+  s += "      echo \"lodestone job: cancelled (TERM before the time limit); stopped with a checkpoint in $checkpoint and not resubmitting. Submit this script again to resume.\" >&2\n";
+  s += "      exit 3\n";
+  s += "    fi\n";
   s += "    chain=\"${LODESTONE_CHAIN:-1}\"\n";
   s += "    if [ \"$chain\" -ge \"$max_jobs\" ]; then\n";
   s += "      echo \"lodestone job: stopped early again in job $chain of the chain (limit $max_jobs); not resubmitting. Submit this script again to resume from $checkpoint.\" >&2\n";
@@ -252,8 +319,8 @@ std::string pbs_script(const Plan& p, const JobOptions& o) {
 std::string local_script(const Plan& p, const JobOptions& o) {
   std::string s = "#!/bin/bash\n";
   s += "# Workstation script written by `lodestone plan`; regenerate it rather than edit it.\n";
-  s += "# Ctrl-C stops the solver at its next iteration with a checkpoint; run the script\n";
-  s += "# again to resume.\n";
+  s += "# Ctrl-C (or closing the terminal) stops the solver at its next iteration with a\n";
+  s += "# checkpoint; run the script again to resume. A second Ctrl-C ends it at once.\n";
   s += comment_block(p);
   s += "\n";
   s += launch_block(p, o, p.job_walltime > 0 ? std::max<std::int64_t>(1, p.job_walltime - p.signal_margin) : 0, true);

@@ -130,10 +130,14 @@ void finish(Plan& p, const PlanRequest& r, const MachineModel& m, const MethodSh
 
   const double compute_low = static_cast<double>(p.iterations_low) * t_iter + t_startup;
   const double compute_high = static_cast<double>(p.iterations_high) * t_iter + t_startup;
+  // Slurm may send the --signal warning up to 60 s before the time asked for (sbatch
+  // documentation, --signal): a Slurm job may lose that minute too.
+  p.signal_slack = r.scheduler == Scheduler::slurm ? 60 : 0;
   double usable = 0;
   if (r.max_walltime > 0) {
     p.job_walltime = r.scheduler == Scheduler::local ? r.max_walltime : (r.max_walltime / 60) * 60;
-    usable = static_cast<double>(p.job_walltime) - p.load_seconds - static_cast<double>(p.signal_margin);
+    usable = static_cast<double>(p.job_walltime) - p.load_seconds - static_cast<double>(p.signal_margin) -
+             static_cast<double>(p.signal_slack);
     // A quarter of a job, kept between 5 and 30 minutes, but at most half a job.
     p.checkpoint_interval = static_cast<std::int64_t>(std::min(std::clamp(usable / 4.0, 300.0, 1800.0), usable / 2.0));
   } else {
@@ -149,9 +153,11 @@ void finish(Plan& p, const PlanRequest& r, const MachineModel& m, const MethodSh
     if (usable < t_iter + p.checkpoint_seconds || usable <= 0) {
       p.fits = false;
       p.warnings.push_back(fmt::format(
-          "a job of {} s cannot make progress: loading the matrix (~{:.0f} s), the stop margin ({} s) and one "
+          "a job of {} s cannot make progress: loading the matrix (~{:.0f} s), the stop margin ({} s{}) and one "
           "iteration with its checkpoint (~{:.1f} s) do not fit; raise --max-walltime",
-          p.job_walltime, p.load_seconds, p.signal_margin, t_iter + p.checkpoint_seconds));
+          p.job_walltime, p.load_seconds, p.signal_margin,
+          p.signal_slack > 0 ? fmt::format(", and {} s by which Slurm may warn early", p.signal_slack) : "",
+          t_iter + p.checkpoint_seconds));
       usable = std::max(usable, 1.0);
       p.checkpoint_interval = std::max<std::int64_t>(p.checkpoint_interval, 1);
     }
@@ -161,7 +167,8 @@ void finish(Plan& p, const PlanRequest& r, const MachineModel& m, const MethodSh
     p.jobs_low = p.jobs_high = 1;
     if (r.scheduler != Scheduler::local) {
       // Ask for the high estimate with a quarter more, in whole minutes, at least ten.
-      const double want = p.load_seconds + 1.25 * p.solve_seconds_high + static_cast<double>(p.signal_margin);
+      const double want = p.load_seconds + 1.25 * p.solve_seconds_high +
+                           static_cast<double>(p.signal_margin + p.signal_slack);
       p.job_walltime = std::max<std::int64_t>(600, 60 * ceil_div(want, 60.0));
     }
   }

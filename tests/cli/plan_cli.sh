@@ -1,8 +1,8 @@
 #!/usr/bin/env bash
 # `lodestone plan` from the command line: the summary's fields, the same plan on
 # 1 and 3 planner ranks, malformed options (exit 2), unreadable input (exit 1),
-# a request that does not fit (exit 1, no script), and scripts that pass bash -n
-# and shellcheck.
+# a request that does not fit (exit 1, no script), file names that would overwrite each
+# other (exit 2), and scripts that pass bash -n and shellcheck.
 source "$LODESTONE_SOURCE/tests/support/script_env.bash"
 # One planner rank needs no mpirun (MPI starts as a singleton): faster.
 one() { timeout 120 "$@"; }
@@ -99,11 +99,25 @@ set -e
 grep -qF "does not fit" out.txt || fail "no fit: summary lacks the warning"
 [ ! -e nofit.sh ] || fail "no fit: a script was written"
 
-# The script never overwrites the matrix.
+# Files that would overwrite each other: exit 2 before anything is read or written.
+same="is the same file as"
+expect_usage "the script (--out) 'plate.h5' $same the matrix 'plate.h5'" "${base[@]}" --node-memory 8G --out plate.h5
+expect_usage "the results file (--result) './plate.h5' $same the matrix" "${base[@]}" --node-memory 8G --result ./plate.h5 --out x.sh
+expect_usage "the checkpoint (--checkpoint) 'plate.h5' $same the matrix" "${base[@]}" --node-memory 8G --checkpoint plate.h5
+expect_usage "the checkpoint (--checkpoint) 'r.h5' $same the results file (--result) 'r.h5'" "${base[@]}" --node-memory 8G \
+  --result r.h5 --checkpoint r.h5 --out x.sh
+expect_usage "the script (--out) 'plate.checkpoint.h5' $same the checkpoint" "${base[@]}" --node-memory 8G --out plate.checkpoint.h5
+expect_usage "the checkpoint's previous copy 'c.h5.previous' $same the results file (--result) 'c.h5.previous'" \
+  "${base[@]}" --node-memory 8G --checkpoint c.h5 --result c.h5.previous --out x.sh
+ln -s plate.h5 plate-link.h5
+expect_usage "the results file (--result) 'plate-link.h5' $same the matrix" "${base[@]}" --node-memory 8G --result plate-link.h5
+[ ! -e x.sh ] && [ ! -e plate.checkpoint.h5 ] || fail "a plan refused for its file names wrote a script"
+one "$LODESTONE" inspect plate.h5 >/dev/null || fail "the matrix was damaged"
+# On 2 planner ranks: the same refusal, said once.
 set +e
-one "$LODESTONE" plan plate.h5 "${base[@]}" --node-memory 8G --out plate.h5 > out.txt 2> err.txt
+run 2 "$LODESTONE" plan plate.h5 "${base[@]}" --node-memory 8G --result plate.h5 > out.txt 2> err.txt
 rc=$?
 set -e
-[ "$rc" -eq 1 ] || fail "--out over the matrix: expected exit 1, got $rc"
-one "$LODESTONE" inspect plate.h5 >/dev/null || fail "the matrix was damaged"
+[ "$rc" -eq 2 ] || { cat err.txt; fail "--result over the matrix on 2 ranks: expected exit 2, got $rc"; }
+[ "$(grep -c "$same" err.txt)" -eq 1 ] || { cat err.txt; fail "--result over the matrix on 2 ranks: not said exactly once"; }
 echo "plan_cli: ok"

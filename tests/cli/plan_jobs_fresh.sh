@@ -1,7 +1,9 @@
 #!/usr/bin/env bash
 # jobs/generated/ is exactly what scripts/regenerate-jobs makes from jobs/specs/ with
 # this build: the example job scripts never drift from the code. Each example also
-# passes bash -n and shellcheck.
+# passes bash -n and shellcheck, asks for the lowest modes (the footbridge's vibration
+# modes: --select smallest, not the default largest |λ|), and jobs/README.md carries
+# the caution on results that drive structural decisions.
 set -euo pipefail
 : "${LODESTONE:?}" "${LODESTONE_SOURCE:?}"
 tmp="$(mktemp -d)"
@@ -15,7 +17,10 @@ n=0
 for f in "$tmp"/generated/*.slurm "$tmp"/generated/*.pbs "$tmp"/generated/*.sh; do
   bash -n "$f"
   shellcheck -s bash "$f"
+  grep -qx 'solve_args+=(--select=smallest)' "$f" || { echo "FAIL: $(basename "$f") does not ask for the lowest modes" >&2; exit 1; }
   n=$((n + 1))
 done
 [ "$n" -ge 3 ] || { echo "FAIL: expected at least 3 example scripts, found $n" >&2; exit 1; }
+grep -q "sizing" "$LODESTONE_SOURCE/jobs/README.md" && grep -q "licensed engineering practice" "$LODESTONE_SOURCE/jobs/README.md" \
+  || { echo "FAIL: jobs/README.md lacks the caution on results that drive structural decisions" >&2; exit 1; }
 echo "plan_jobs_fresh: ok ($n scripts)"

@@ -3,7 +3,8 @@
 # real single-node Slurm, with a stand-in for `lodestone solve --checkpoint --resume` that
 # waits for USR1, "checkpoints" and exits 3, and on the next run finds its checkpoint and
 # exits 0. It shows the script's signal forwarding through mpirun, the requeue, and the
-# resumed run, in about 75 s (2-minute limit, 60 s margin). The real end-to-end test will
+# resumed run, in about 2 minutes (3-minute limit, 60 s margin; the plan allows for a
+# warning up to 60 s early, so 2-minute Slurm jobs do not fit). The real end-to-end test will
 # replace the stand-in by `lodestone solve` once --checkpoint/--resume exist.
 #   LODESTONE=build/src/lodestone LODESTONE_SOURCE=. bash tests/manual/slurm_requeue_standin.sh
 set -euo pipefail
@@ -32,7 +33,7 @@ cpus="$(slurmd -C | sed -n 's/.* CPUs=\([0-9]*\).*/\1/p' | head -n 1)"
 mem_mb="$(slurmd -C | sed -n 's/.* RealMemory=\([0-9]*\).*/\1/p' | head -n 1)"
 timeout 120 "$LODESTONE" generate laplace1d --n 20000 m.h5 >/dev/null
 timeout 120 "$LODESTONE" plan m.h5 --pairs 2 --scheduler slurm --cores-per-node "$cpus" --node-memory "${mem_mb}M" \
-  --max-walltime 00:02:00 --job-name rq --lodestone "$tmp/standin" --out rq.slurm >/dev/null
+  --max-walltime 00:03:00 --job-name rq --lodestone "$tmp/standin" --out rq.slurm >/dev/null
 job="$(sbatch --parsable rq.slurm)"
 # Poll (sbatch --wait polls ever more slowly): at most 5 minutes.
 for _ in $(seq 1 150); do

@@ -2,7 +2,7 @@
 # A plan-generated Slurm script on a real Slurm (Debian's 22.05), end to end: a
 # single-node Slurm on localhost (scripts/local-slurm; installs slurm and munge if
 # missing, state under a temporary directory), a matrix whose solve needs longer than
-# one 2-minute job, `lodestone plan --scheduler slurm --max-walltime 00:02:00`, sbatch,
+# one 3-minute job, `lodestone plan --scheduler slurm --max-walltime 00:03:00`, sbatch,
 # then polling `scontrol show job` until the job has ended. The job must be signalled
 # before its limit (--signal=B:USR1@margin, margin >= 30 s), checkpoint, requeue
 # itself, resume from the checkpoint and finish with status 0; `lodestone verify` then
@@ -15,7 +15,9 @@
 # products became one BLAS-3 product per rank's piece, and finished before the signal;
 # order 5000 then needed about 2.5 minutes beside the rest of the suite, but only 60 s
 # on a quiet machine on 2026-12-05, and finished unsignalled too. Order 7000 needs about
-# twice that.
+# twice that. The plan allows for a Slurm warning up to 60 s early, so a 2-minute job
+# leaves no time to work: 3-minute jobs (signalled from about 60 s in), and order 8000
+# (about 2.5 times order 5000), so that even a quiet machine needs more than one job.
 # `lodestone calibrate` on an order-300 matrix of the same spectrum gives the plan the
 # real convergence (its matvecs per pair), so the script's requeue limit covers the chain. The daemons are
 # stopped on exit.
@@ -35,7 +37,7 @@ trap 'exit 143' TERM INT
 job=""
 log() { cat "$tmp"/e2e-*.out 2>/dev/null || true; }
 fail() { echo "FAIL: $*" >&2; echo "--- job log ---" >&2; log >&2; exit 1; }
-n="${SLURM_E2E_ORDER:-7000}"
+n="${SLURM_E2E_ORDER:-8000}"
 
 timeout 300 "$LODESTONE_SOURCE/scripts/local-slurm" start >/dev/null
 export SLURM_CONF="$LOCAL_SLURM_DIR/slurm.conf"
@@ -56,9 +58,9 @@ timeout 300 mpirun --allow-run-as-root --oversubscribe -n "$ranks" "$LODESTONE" 
 # plan keeps its defaults for those.
 python3 -c 'import json, sys; c = json.load(open(sys.argv[1])); json.dump({k: c[k] for k in ("format", "version", "matvecs_per_pair", "method", "seconds_per_nonzero", "dense_flops_per_second", "reduction_latency_seconds")}, open(sys.argv[2], "w"))' measured.json cal.json
 timeout 120 "$LODESTONE" plan m.h5 --pairs 2 --method block --scheduler slurm --cores-per-node "$ranks" \
-  --nodes 1 --node-memory "${mem_mb}M" --max-walltime 00:02:00 --calibration cal.json --job-name e2e \
+  --nodes 1 --node-memory "${mem_mb}M" --max-walltime 00:03:00 --calibration cal.json --job-name e2e \
   --lodestone "$LODESTONE" --out job.slurm > plan.txt
-grep -qx '#SBATCH --time=00:02:00' job.slurm || fail "the script does not ask for 2 minutes"
+grep -qx '#SBATCH --time=00:03:00' job.slurm || fail "the script does not ask for 3 minutes"
 grep -qx '#SBATCH --nodes=1' job.slurm || fail "the script does not ask for the one node there is"
 margin="$(sed -n 's/^#SBATCH --signal=B:USR1@\([0-9]*\)$/\1/p' job.slurm)"
 if [ -z "$margin" ] || [ "$margin" -lt 30 ]; then fail "signal margin '$margin' is not at least 30 s"; fi
@@ -66,9 +68,9 @@ grep -q '^#SBATCH --requeue$' job.slurm || fail "the script does not ask to be r
 
 start=$SECONDS
 job="$(sbatch --parsable job.slurm)"
-# Poll scontrol (sbatch --wait polls ever more slowly). At most 12 minutes.
+# Poll scontrol (sbatch --wait polls ever more slowly). At most 20 minutes.
 state="" restarts=0 exit_code=""
-while [ $((SECONDS - start)) -lt 720 ]; do
+while [ $((SECONDS - start)) -lt 1200 ]; do
   info="$(scontrol show job "$job" 2>/dev/null || true)"
   state="$(sed -n 's/.*JobState=\([A-Z_]*\).*/\1/p' <<<"$info" | head -n 1)"
   restarts="$(sed -n 's/.*Restarts=\([0-9]*\).*/\1/p' <<<"$info" | head -n 1)"

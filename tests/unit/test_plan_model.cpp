@@ -235,6 +235,33 @@ TEST(PlanModel, ChainedJobsAndCheckpointsByHand) {
   EXPECT_EQ(q->jobs_high, static_cast<std::int64_t>(std::ceil(q->solve_seconds_high / (240.0 - q->load_seconds))));
   EXPECT_GE(q->jobs_high, 250);
   EXPECT_LE(q->jobs_high, 251);
+  EXPECT_EQ(q->signal_slack, 0);
+
+  // Slurm may warn up to 60 s early (sbatch --signal): a Slurm job has 300 - 60 - 60 = 180 s
+  // usable, less the load: ceil(59996 / 180) = 334 jobs, and the interval half of that.
+  r.scheduler = Scheduler::slurm;
+  auto sl = make_plan(comm, r);
+  ASSERT_TRUE(sl.is_ok()) << sl.status().message();
+  EXPECT_EQ(sl->signal_margin, 60);
+  EXPECT_EQ(sl->signal_slack, 60);
+  EXPECT_EQ(sl->checkpoint_interval, 89);
+  EXPECT_EQ(sl->jobs_high, static_cast<std::int64_t>(std::ceil(sl->solve_seconds_high / (180.0 - sl->load_seconds))));
+  EXPECT_GE(sl->jobs_high, 334);
+  EXPECT_LE(sl->jobs_high, 335);
+  EXPECT_TRUE(sl->fits);
+  // Two-minute jobs: PBS keeps 60 s less the load after its margin, room for a 30 s
+  // iteration; Slurm's early warning leaves nothing, and the plan does not fit.
+  r.max_walltime = 2 * 60;
+  auto short_slurm = make_plan(comm, r);
+  ASSERT_TRUE(short_slurm.is_ok());
+  EXPECT_FALSE(short_slurm->fits);
+  ASSERT_FALSE(short_slurm->warnings.empty());
+  EXPECT_NE(short_slurm->warnings.back().find("60 s by which Slurm may warn early"), std::string::npos)
+      << short_slurm->warnings.back();
+  r.scheduler = Scheduler::pbs;
+  auto short_pbs = make_plan(comm, r);
+  ASSERT_TRUE(short_pbs.is_ok());
+  EXPECT_TRUE(short_pbs->fits);
 }
 
 TEST(PlanModel, BadCalibrationIsAnInputError) {
@@ -314,19 +341,20 @@ TEST(PlanModel, MoreNodesWhenTheyCutChainedJobs) {
   r.max_walltime = 5 * 60;
   r.calibration_path = cal;
   // One node (2 ranks, ~300000 nonzeros each): 2000 iterations of ~0.3 s = ~600 s, in
-  // jobs of ~240 s usable: 3 jobs. Three nodes (6 ranks): ~200 s, one job, with the
-  // same node-seconds, so the planner takes more nodes and says it is time bound.
+  // Slurm jobs of ~180 s usable (300 s less the 60 s margin and the 60 s by which Slurm
+  // may warn early): 4 jobs. Four nodes (8 ranks): ~150 s, one job, with the same
+  // node-seconds, so the planner takes more nodes and says it is time bound.
   auto p = make_plan(comm, r);
   ASSERT_TRUE(p.is_ok()) << p.status().message();
   EXPECT_EQ(p->bound, "time") << p->bound_reason;
-  EXPECT_EQ(p->nodes, 3);
+  EXPECT_EQ(p->nodes, 4);
   EXPECT_EQ(p->jobs_high, 1);
-  EXPECT_NE(p->bound_reason.find("1 node would hold the matrix but need up to 3 chained jobs"), std::string::npos)
+  EXPECT_NE(p->bound_reason.find("1 node would hold the matrix but need up to 4 chained jobs"), std::string::npos)
       << p->bound_reason;
-  // Fixed to one node, the same request spans three jobs.
+  // Fixed to one node, the same request spans four jobs.
   r.nodes = 1;
   auto q = make_plan(comm, r);
   ASSERT_TRUE(q.is_ok());
   EXPECT_EQ(q->bound, "given");
-  EXPECT_EQ(q->jobs_high, 3);
+  EXPECT_EQ(q->jobs_high, 4);
 }

@@ -120,6 +120,50 @@ TEST(PlanScript, LocalScript) {
   EXPECT_NE(s->find("cores=$(nproc"), std::string::npos);
 }
 
+// scancel and qdel send TERM, as the time limit does: a TERM with no USR1 warning before
+// it (under PBS, which never warns: an early one) is a cancel, and the script neither requeues nor submits the next job
+// (tests/cli/plan_batch_cancel.sh runs the scripts with stand-ins).
+TEST(PlanScript, BatchScriptsTellACancelFromTheLimit) {
+  for (Scheduler sch : {Scheduler::slurm, Scheduler::pbs}) {
+    auto s = job_script(sample(sch), options());
+    ASSERT_TRUE(s.is_ok()) << s.status().message();
+    const std::string& t = *s;
+    EXPECT_TRUE(has_line(t, "trap 'warned=1; ask_stop USR1' USR1")) << scheduler_name(sch);
+    if (sch == Scheduler::pbs) {
+      // No warning under PBS: walltime 9000 s, less the margin (95 s) and a minute of slack.
+      EXPECT_TRUE(has_line(t, "limit_near=8845"));
+      EXPECT_TRUE(has_line(t, "trap 'if [ -z \"$warned\" ] && [ \"$SECONDS\" -lt \"$limit_near\" ]; then cancelled=1; fi"));
+    } else {
+      // Slurm always warns before its limit: any TERM before the warning is a cancel.
+      EXPECT_EQ(t.find("limit_near"), std::string::npos);
+      EXPECT_TRUE(has_line(t, "trap 'if [ -z \"$warned\" ]; then cancelled=1; fi"));
+    }
+    const auto cancel = t.find("    if [ -n \"$cancelled\" ]; then\n");
+    ASSERT_NE(cancel, std::string::npos) << scheduler_name(sch);
+    const auto resubmit = t.find(sch == Scheduler::pbs ? "qsub -W" : "scontrol requeue");
+    EXPECT_LT(cancel, resubmit) << scheduler_name(sch);
+    EXPECT_LT(t.find("exit 3\n", cancel), resubmit) << scheduler_name(sch);
+    EXPECT_EQ(t.find("' HUP\n"), std::string::npos) << scheduler_name(sch);
+  }
+}
+
+// Closing the terminal or Ctrl-\ stops with a checkpoint; a second Ctrl-C ends mpirun; no
+// solver outlives the script (tests/cli/plan_local_signals.sh runs it).
+TEST(PlanScript, LocalScriptSignals) {
+  auto p = sample(Scheduler::local);
+  p.nodes = 1;
+  p.ranks = 4;
+  auto s = job_script(p, options());
+  ASSERT_TRUE(s.is_ok()) << s.status().message();
+  const std::string& t = *s;
+  for (const char* sig : {"USR1", "TERM", "HUP", "QUIT"})
+    EXPECT_TRUE(has_line(t, std::string("trap 'ask_stop ") + sig + "' " + sig)) << sig;
+  EXPECT_TRUE(has_line(t, "trap end_solver EXIT"));
+  EXPECT_NE(t.find("if [ \"$interrupts\" -lt 2 ]; then ask_stop INT; else"), std::string::npos);
+  EXPECT_NE(t.find("exit 130"), std::string::npos);
+  EXPECT_EQ(t.find("limit_near="), std::string::npos);
+}
+
 TEST(PlanScript, BatchScriptsLeaveSlotsToTheScheduler) {
   for (Scheduler sch : {Scheduler::slurm, Scheduler::pbs}) {
     auto s = job_script(sample(sch), options());
