@@ -30,22 +30,12 @@ start() {
   rm -f calls log.txt pids deck.checkpoint.h5
   env "$@" "./$script" > log.txt 2>&1 &
   bg=$!
-  for _ in $(seq 600); do
-    if grep -q "fake solver: iterating" log.txt 2>/dev/null; then return 0; fi
-    kill -0 "$bg" 2>/dev/null || break
-    sleep 0.1
-  done
-  cat log.txt
-  fail "$script: the stand-in solver did not start"
+  await_line log.txt "fake solver: iterating" "$bg" "$script: the stand-in solver did not start"
 }
 # finish [no-checkpoint]: waits for the script (a hang guard, not a timing check); sets rc;
 # checks that a checkpoint was written unless told there is none.
 finish() {
-  for _ in $(seq 1200); do
-    kill -0 "$bg" 2>/dev/null || break
-    sleep 0.1
-  done
-  kill -0 "$bg" 2>/dev/null && { cat log.txt; fail "the script was still running 2 minutes later"; }
+  await_exit "$bg" log.txt "the batch script"
   rc=0
   wait "$bg" || rc=$?
   bg=""

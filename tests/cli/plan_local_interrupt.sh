@@ -27,24 +27,10 @@ interrupt() {
     "$1" > log.txt 2>&1 &
   bg=$!
   # The solver prints a progress line every 5 s: once there is one, it is iterating.
-  for _ in $(seq 600); do
-    if grep -q "iteration" log.txt; then break; fi
-    kill -0 "$bg" 2>/dev/null || break
-    sleep 0.1
-  done
-  grep -q "iteration" log.txt || { cat log.txt; fail "the solver printed no progress line"; }
+  await_line log.txt "iteration" "$bg" "the solver printed no progress line"
   kill -INT -- "-$bg"
   # A stopped script ends within seconds; one still running after 2 minutes is hung.
-  for _ in $(seq 1200); do
-    state=$(ps -o stat= -p "$bg" 2>/dev/null || true)
-    if [[ -z "$state" || "$state" == Z* ]]; then break; fi
-    sleep 0.1
-  done
-  if [[ -n "$state" && "$state" != Z* ]]; then
-    kill -KILL -- "-$bg" 2>/dev/null || true
-    cat log.txt
-    fail "Ctrl-C: the script was still running 2 minutes later"
-  fi
+  await_exit "$bg" log.txt "Ctrl-C"
   rc=0
   wait "$bg" || rc=$?
   grep -q "lodestone job: stopped early with a checkpoint in deck.checkpoint.h5" log.txt \

@@ -20,28 +20,13 @@ start() {
   "$PY" -c 'import os, signal, sys; signal.signal(signal.SIGINT, signal.SIG_DFL); signal.signal(signal.SIGQUIT, signal.SIG_DFL); os.setsid(); os.execv(sys.argv[1], sys.argv[1:])' \
     ./deck.sh > log.txt 2>&1 &
   bg=$!
-  for _ in $(seq 600); do
-    if grep -q "fake solver: iterating" log.txt 2>/dev/null; then return 0; fi
-    kill -0 "$bg" 2>/dev/null || break
-    sleep 0.1
-  done
-  cat log.txt
-  fail "the stand-in solver did not start"
+  await_line log.txt "fake solver: iterating" "$bg" "the stand-in solver did not start"
 }
 # finish WHAT: waits for the script (a hang guard, not a timing check), sets rc, and checks
 # that no stand-in solver is still running.
 finish() {
   local state=""
-  for _ in $(seq 1200); do
-    state=$(ps -o stat= -p "$bg" 2>/dev/null || true)
-    if [[ -z "$state" || "$state" == Z* ]]; then break; fi
-    sleep 0.1
-  done
-  if [[ -n "$state" && "$state" != Z* ]]; then
-    kill -KILL -- "-$bg" 2>/dev/null || true
-    cat log.txt
-    fail "$1: the script was still running 2 minutes later"
-  fi
+  await_exit "$bg" log.txt "$1"
   rc=0
   wait "$bg" || rc=$?
   bg=""
