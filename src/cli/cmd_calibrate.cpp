@@ -34,7 +34,7 @@ Command make_calibrate_command(CLI::App& root) {
   app->add_option("--tol", a->req.tolerance, "tolerance of the short solve, as for solve")
       ->check(CLI::Range(1e-16, 0.5))->capture_default_str();
   app->add_option("--seed", a->req.seed, "seed of the start vectors")->capture_default_str();
-  app->add_option("--group", a->req.group, "HDF5 group of the matrix")->capture_default_str();
+  app->add_option("--group", a->req.group, "HDF5 group of the matrix")->check(group_path())->capture_default_str();
   app->footer(
       "Run it with the ranks (and on the kind of node) the real run will use: it loads the matrix,\n"
       "times block products, small global sums and a checkpoint write (a trial file beside --out,\n"

@@ -57,7 +57,7 @@ Command make_generate_command(CLI::App& root) {
       ->check(CLI::Range(1, 40))
       ->capture_default_str();
   app->add_option("--seed", args->seed, "seed of the hashed random numbers (walk, dense-spectrum)")->capture_default_str();
-  app->add_option("--group", args->group, "HDF5 group to write the matrix to")->capture_default_str();
+  app->add_option("--group", args->group, "HDF5 group to write the matrix to")->check(group_path())->capture_default_str();
   app->footer(
       "Kinds:\n"
       "  laplace1d       tridiagonal (-1, 2, -1), Dirichlet; symmetric\n"

@@ -16,7 +16,7 @@ Command make_import_command(CLI::App& root) {
   CLI::App* app = root.add_subcommand("import", "Convert a Matrix Market file to a Lodestone matrix file");
   app->add_option("input", args->in, "Matrix Market file (.mtx)")->required();
   app->add_option("output", args->out, "HDF5 file to write (written under a temporary name, then renamed)")->required();
-  app->add_option("--group", args->options.group, "HDF5 group to write the matrix to")->capture_default_str();
+  app->add_option("--group", args->options.group, "HDF5 group to write the matrix to")->check(group_path())->capture_default_str();
   app->footer(
       "Reads the coordinate and array formats with real, integer or pattern values\n"
       "and general, symmetric or skew-symmetric symmetry. Symmetric kinds are\n"

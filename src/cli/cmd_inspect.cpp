@@ -21,7 +21,7 @@ Command make_inspect_command(CLI::App& root) {
   auto args = std::make_shared<Args>();
   CLI::App* app = root.add_subcommand("inspect", "Summarise a matrix, results or checkpoint file");
   app->add_option("file", args->path, "Lodestone HDF5 file")->required();
-  app->add_option("--group", args->group, "HDF5 group of the matrix")->capture_default_str();
+  app->add_option("--group", args->group, "HDF5 group of the matrix")->check(group_path())->capture_default_str();
   app->add_flag("--check", args->check,
                 "Also load the whole matrix in parallel, validate every entry and print its fingerprint");
   app->add_option("--symmetry-tolerance", args->symmetry_tolerance,

@@ -68,7 +68,7 @@ Command make_plan_command(CLI::App& root) {
   app->add_option("--ghost-rows", a->req.ghost_rows,
                   "ghost rows per rank, if known (default: an upper bound; column indices are not read)")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 50));
-  app->add_option("--group", a->req.group, "HDF5 group of the matrix")->capture_default_str();
+  app->add_option("--group", a->req.group, "HDF5 group of the matrix")->check(group_path())->capture_default_str();
   app->add_option("--select", a->req.solve.selection, "passed to the script's solve: magnitude | largest | smallest")
       ->check(CLI::IsMember({"magnitude", "largest", "smallest"}));
   app->add_option("--tol", a->req.solve.tolerance, "passed to the script's solve")->check(CLI::Range(1e-16, 0.5));

@@ -61,7 +61,7 @@ Command make_solve_command(CLI::App& root) {
       ->check(CLI::Range(std::int64_t{0}, std::numeric_limits<std::int64_t>::max()))
       ->capture_default_str();
   app->add_option("--seed", args->solve.seed, "seed of the start vectors (same seed, same answer on any rank count)")->capture_default_str();
-  app->add_option("--group", args->group, "HDF5 group of the matrix")->capture_default_str();
+  app->add_option("--group", args->group, "HDF5 group of the matrix")->check(group_path())->capture_default_str();
   CLI::Option* shift = app->add_option("--shift", args->shift, "power, block and krylov: iterate with A - shift*I (krylov: wants the eigenvalues farthest from it)");
   app->add_option("--block-size", args->solve.block_size, "block and chebyshev: vectors per block (default K plus a few; chebyshev needs more than K); krylov: basis size (default max(2K+1, K+16))")
       ->check(CLI::Range(std::int64_t{1}, std::int64_t{1} << 20));

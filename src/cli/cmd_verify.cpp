@@ -37,7 +37,7 @@ Command make_verify_command(CLI::App& root) {
   CLI::App* app = root.add_subcommand("verify", "Check a results file against its matrix, independently of the solver");
   app->add_option("matrix", args->matrix, "matrix file the result was computed from")->required();
   app->add_option("result", args->result, "results file written by 'lodestone solve'")->required();
-  app->add_option("--group", args->group, "HDF5 group of the matrix")->capture_default_str();
+  app->add_option("--group", args->group, "HDF5 group of the matrix")->check(group_path())->capture_default_str();
   app->footer(
       "Recomputes ||A v - lambda v||_2 for every pair with fresh matrix products, checks each vector has unit\n"
       "2-norm and, for a symmetric matrix, that the vectors are mutually orthogonal, and that the result's\n"

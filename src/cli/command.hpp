@@ -25,6 +25,10 @@ Command make_plan_command(CLI::App& root);
 Command make_solve_command(CLI::App& root);
 Command make_verify_command(CLI::App& root);
 
+// The check every --group option carries: "/", or "/name/name..." (no empty, "."
+// or ".." parts). Refused at parse time, so on every rank alike (status 2).
+CLI::Validator group_path();
+
 // Prints on rank 0 only.
 void print_once(MPI_Comm comm, const std::string& text);
 void print_error_once(MPI_Comm comm, const std::string& text);

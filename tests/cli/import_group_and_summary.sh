@@ -31,4 +31,20 @@ rc=0
 run 2 import "$tmp/sym.mtx" "$tmp/sym.mtx" > /dev/null 2> "$tmp/err" || rc=$?
 [ "$rc" -eq 1 ] && grep -q '^lodestone: error: .*overwrite an input' "$tmp/err" || { cat "$tmp/err"; echo "FAIL: overwrite"; exit 1; }
 head -1 "$tmp/sym.mtx" | grep -q '^%%MatrixMarket' || { echo "FAIL: input damaged"; exit 1; }
+# Group paths that one command could write and another not read ("" wrote at the root,
+# /a/./b was created but not found again) are refused before the input is read, on
+# every rank alike, for import and for the readers.
+for g in "" "graphs" "/graphs/./first" "/graphs//first" "/graphs/"; do
+  for cmd in import inspect; do
+    rc=0
+    if [ "$cmd" = import ]; then
+      run 2 import "$tmp/sym.mtx" "$tmp/bad-group.h5" --group "$g" > /dev/null 2> "$tmp/err" || rc=$?
+    else
+      run 2 inspect "$tmp/sym.h5" --group "$g" > /dev/null 2> "$tmp/err" || rc=$?
+    fi
+    [ "$rc" -eq 2 ] && [ "$(grep -c '^lodestone: error: --group' "$tmp/err")" -eq 1 ] ||
+      { cat "$tmp/err"; echo "FAIL: $cmd --group '$g': exit $rc, want 2 with one message"; exit 1; }
+  done
+  [ ! -e "$tmp/bad-group.h5" ] || { echo "FAIL: import --group '$g' wrote a file"; exit 1; }
+done
 echo "import_group_and_summary: ok"
