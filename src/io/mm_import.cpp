@@ -109,13 +109,15 @@ void route(EntryRouter& router, const Banner& b, const Entry& e) {
 }
 
 // Walks this rank's lines in rounds. on_data(line) parses one data line and
-// routes its entries, or returns the defect. Collective: every rank leaves
-// together; a defect on any rank stops all ranks at the end of the round, and
-// ranks before the first failing one then count their remaining lines so the
-// failing line's number can be computed. Returns the agreed status.
-template <class OnData>
+// routes its entries, or returns the defect; check(line) only parses it.
+// Collective: every rank leaves together; a defect on any rank stops all ranks at
+// the end of the round. Ranks before the first failing one then check the rest of
+// their lines (an earlier rank may hold an earlier defect that a later round would
+// have reached), so the defect named is the first in the file on any number of
+// ranks, and count them so its line number can be computed. Returns the agreed status.
+template <class OnData, class Check>
 Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, EntryRouter& router,
-                   std::int64_t first_line, std::int64_t round, OnData on_data) {
+                   std::int64_t first_line, std::int64_t round, OnData on_data, Check check) {
   const int rank = comm_rank(comm), size = comm_size(comm);
   std::int64_t lines = 0;
   Status defect;
@@ -143,9 +145,18 @@ Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, E
     if (failed_first < size || global[0] == 1) break;
   }
   if (failed_first < size) {
-    if (rank < failed_first) {
+    if (rank < failed_first && defect && !done) {
       std::string_view line;
-      while (reader.next(line)) ++lines;
+      while (defect) {
+        if (!reader.next(line)) {
+          if (!reader.status()) defect = reader.status(), defect_line = lines + 1;
+          break;
+        }
+        ++lines;
+        if (mm::is_skippable(line)) continue;
+        Status s = check(line);
+        if (!s) defect = s, defect_line = lines;
+      }
     }
     const std::int64_t before = exclusive_prefix_sum(comm, lines);
     if (!defect) defect = at_line(path, first_line + before + defect_line - 1, defect);
@@ -232,7 +243,7 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
       ++data_lines;
       route(router, h.banner, *e);
       return Status::ok();
-    });
+    }, [&](std::string_view line) { return mm::parse_coordinate_line(line, h.banner, h.size).status(); });
     LODESTONE_TRY(s);
     const std::int64_t found = sum_all(comm, data_lines);
     if (found != h.size.entries) return Status::input(count_message(path, h, found));
@@ -260,7 +271,7 @@ Result<MatrixMarketRows> read_matrix_market(MPI_Comm comm, const std::string& pa
       if (*v != 0.0) route(router, h.banner, {at.row(), at.col(), *v});
       at.next();
       return Status::ok();
-    });
+    }, [&](std::string_view line) { return mm::parse_array_line(line, h.banner).status(); });
     LODESTONE_TRY(s);
   }
 

@@ -8,7 +8,6 @@
 #include <cstring>
 #include <filesystem>
 
-#include "io/atomic_output.hpp"
 #include "state/checkpoint_output.hpp"
 #include "state/method_state_adapter.hpp"
 #include "state/stop_signals.hpp"

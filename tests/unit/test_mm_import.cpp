@@ -237,6 +237,30 @@ TEST(MmImport, DefectLineNumbersAreGlobalAndAgreed) {
   }
 }
 
+// Two defects: the earlier one deep in an early rank's share (reached only in a late
+// round of entries), the later one at the start of a later rank's share (reached in
+// its first round). The message names the earlier one on every rank count, as one
+// rank reading the whole file would.
+TEST(MmImport, FirstDefectInTheFileIsNamedOnAnyRankCount) {
+  MPI_Comm world = MPI_COMM_WORLD;
+  const int p = comm_size(world), rank = comm_rank(world);
+  std::string text = "%%MatrixMarket matrix coordinate real general\n6 6 60\n";
+  for (int k = 1; k <= 60; ++k)
+    text += k == 25 ? "7 1 1.0\n" : k == 33 ? "1 9 1.0\n" : fmt::format("{} {} {}\n", k % 6 + 1, k % 5 + 1, k);
+  const std::string path = write_text(world, "two-defects.mtx", text);
+  for (int q = 1; q <= p; ++q) {
+    MPI_Comm sub;
+    MPI_Comm_split(world, rank < q ? 0 : MPI_UNDEFINED, rank, &sub);
+    if (sub == MPI_COMM_NULL) continue;
+    auto m = io::read_matrix_market(sub, path, tiny());
+    ASSERT_FALSE(m.is_ok());
+    // Data entry 25 is on line 2 + 25.
+    EXPECT_NE(m.status().message().find(": line 27: row index 7 is out of range 1..6"), std::string::npos)
+        << "on " << q << " ranks: " << m.status().message();
+    MPI_Comm_free(&sub);
+  }
+}
+
 TEST(MmImport, WritesAFileThatLoadsWithTheSameFingerprint) {
   MPI_Comm comm = MPI_COMM_WORLD;
   std::string in = write_text(comm, "w.mtx", random_file(23, 90, "symmetric"));
