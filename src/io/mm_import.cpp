@@ -123,20 +123,22 @@ Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, E
   Status defect;
   std::int64_t defect_line = 0;  // 1-based within this rank's share
   bool done = false;
+  // The next line through parse (on_data or check); at the end of the share, done.
+  const auto step = [&](auto&& parse) {
+    std::string_view line;
+    if (!reader.next(line)) {
+      done = true;
+      if (!reader.status()) defect = reader.status(), defect_line = lines + 1;
+      return;
+    }
+    ++lines;
+    if (mm::is_skippable(line)) return;
+    Status s = parse(line);
+    if (!s) defect = s, defect_line = lines;
+  };
   int failed_first = size;
   for (;;) {
-    std::string_view line;
-    while (!done && defect && router.pending() < round) {
-      if (!reader.next(line)) {
-        done = true;
-        if (!reader.status()) defect = reader.status(), defect_line = lines + 1;
-        break;
-      }
-      ++lines;
-      if (mm::is_skippable(line)) continue;
-      Status s = on_data(line);
-      if (!s) defect = s, defect_line = lines;
-    }
+    while (!done && defect && router.pending() < round) step(on_data);
     router.exchange();
     int local[2] = {done || !defect ? 1 : 0, defect ? size : rank};
     int global[2] = {0, 0};
@@ -145,19 +147,8 @@ Status route_lines(MPI_Comm comm, const std::string& path, LineReader& reader, E
     if (failed_first < size || global[0] == 1) break;
   }
   if (failed_first < size) {
-    if (rank < failed_first && defect && !done) {
-      std::string_view line;
-      while (defect) {
-        if (!reader.next(line)) {
-          if (!reader.status()) defect = reader.status(), defect_line = lines + 1;
-          break;
-        }
-        ++lines;
-        if (mm::is_skippable(line)) continue;
-        Status s = check(line);
-        if (!s) defect = s, defect_line = lines;
-      }
-    }
+    if (rank < failed_first)
+      while (!done && defect) step(check);
     const std::int64_t before = exclusive_prefix_sum(comm, lines);
     if (!defect) defect = at_line(path, first_line + before + defect_line - 1, defect);
   }
