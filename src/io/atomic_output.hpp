@@ -2,9 +2,9 @@
 //
 // begin() picks a temporary name in the same directory as the final path (so
 // the rename stays on one file system) and refuses an output that is one of the
-// inputs. The caller writes the temporary file collectively and closes it;
-// commit() then has rank 0 fsync it, rename it over the final name and fsync
-// the directory. If commit() is never reached, the temporary file is removed.
+// inputs. The caller writes the temporary file collectively, syncs it on every
+// rank and closes it (h5::Handle::sync_and_close_file for HDF5 files); commit()
+// then has rank 0 fsync it, rename it over the final name and fsync the directory. If commit() is never reached, the temporary file is removed.
 #pragma once
 
 #include <mpi.h>

@@ -47,6 +47,13 @@ bool Handle::close_file() {
   return e >= 0;
 }
 
+bool Handle::sync_and_close_file() {
+  if (id_ < 0) return true;
+  const bool synced = H5Fflush(id_, H5F_SCOPE_GLOBAL) >= 0;
+  const bool closed = close_file();
+  return synced && closed;
+}
+
 void silence_errors() { H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr); }
 
 Handle collective_transfer() {

@@ -31,6 +31,11 @@ class Handle {
   void close();
   // Closes a file handle, reporting whether HDF5 could flush it.
   bool close_file();
+  // For a file written in parallel: flushes it through MPI-IO, which syncs it to
+  // storage on every rank (MPI_File_sync), so the rows each rank wrote are on disk
+  // and not only what rank 0 fsyncs before the rename; then closes it. Collective:
+  // every rank calls it. Reports whether both steps succeeded on this rank.
+  bool sync_and_close_file();
 
  private:
   hid_t id_ = H5I_INVALID_HID;

@@ -65,7 +65,7 @@ static Status write_file(MPI_Comm comm, const std::string& path, const std::vect
   auto file = h5::create(comm, out->temp_path());
   if (!file) return file.status();
   Status s = fn(file->get());
-  bool closed = file->close_file();
+  bool closed = file->sync_and_close_file();
   if (s && !closed) s = Status::input(fmt::format("{}: could not finish writing (disk full or file-size limit?)", path));
   LODESTONE_TRY(agree(comm, s));
   return out->commit();

@@ -246,7 +246,7 @@ Status write_result_file(MPI_Comm comm, const std::string& path, const SolveResu
   auto file = h5::create(comm, out->temp_path());
   if (!file) return file.status();
   Status s = write_contents(comm, file->get(), result, piece_entries);
-  bool closed = file->close_file();
+  bool closed = file->sync_and_close_file();
   if (s && !closed) s = Status::input(fmt::format("{}: could not finish writing (disk full or file-size limit?)", path));
   if (!s) s = Status::input(fmt::format("{}: {}", path, s.message()));
   LODESTONE_TRY(agree(comm, s));

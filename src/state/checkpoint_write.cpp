@@ -156,11 +156,8 @@ Status write(MPI_Comm comm, const std::string& path, const Checkpoint& ckpt, con
   auto file = h5::create(comm, out->temp_path());
   if (!file) return file.status();
   Status s = write_contents(comm, file->get(), ckpt);
-  // Flush through MPI-IO (MPI_File_sync on every rank) before closing, so the
-  // data every rank wrote is on storage before rank 0 renames the file.
-  if (s && H5Fflush(file->get(), H5F_SCOPE_GLOBAL) < 0)
-    s = Status::input(fmt::format("{}: could not flush the checkpoint (disk full?)", path));
-  bool closed = file->close_file();
+  // Synced on every rank before rank 0 renames it.
+  bool closed = file->sync_and_close_file();
   if (s && !closed) s = Status::input(fmt::format("{}: could not finish writing the checkpoint (disk full?)", path));
   LODESTONE_TRY(agree(comm, s.is_ok() ? s : Status::input(fmt::format("{}: {}", path, s.message()))));
   return out->commit();
