@@ -11,10 +11,15 @@
 // truncated back to k columns.
 //
 // Sizes: m = max(2K+1, K+16) columns by default (or --block-size, at least K+1),
-// capped at n; k = K + (m-K)/2 columns kept. Keeping about half the spare
-// columns keeps the next-most-wanted Ritz vectors (which steer convergence of the
-// wanted ones) while each cycle still adds (m-K)/2 new directions for one
-// Schur decomposition and one truncation.
+// capped at n. A restart keeps the K most wanted Ritz vectors, one more for each
+// that has converged (converged ones stay at the front and would otherwise crowd
+// unconverged wanted ones out), and an eighth of the m-K spare columns as next-
+// most-wanted ones that steer convergence; never more than K plus half the spare.
+// The rest of the cycle adds new directions. The previous rule, K plus half the
+// spare from the start, took up to 2.3 times the matvecs (9 of 13 symmetric test
+// runs took more, the 4 with K = 2 up to 1.24 times fewer) and did not converge
+// within 30 000 on two of ten hard non-symmetric ones (docs/benchmarks.md,
+// "The Krylov restart").
 //
 // Converged Schur vectors are kept at the front of the basis (they stay the most
 // wanted), not deflated. Extraction maps the leading K (K+1 for a pair) columns
@@ -365,11 +370,12 @@ class KrylovMethod final : public SubspaceMethod {
     std::vector<double> b(m);
     for (int j = 0; j < m; ++j) b[j] = beta_ * u(m - 1, j);
     LODESTONE_TRY(assess(t, b));
-    // Columns kept: K plus half the spare ones; everything once K are converged
+    // Columns kept (see the top of the file); everything once K are converged
     // (nothing more is extended). A complex pair is never cut in two.
     int keep = m;
     if (nconv_ < problem_.pairs) {
-      keep = std::clamp(problem_.pairs + (m - problem_.pairs) / 2, 1, m - 1);
+      const int spare = m - problem_.pairs;
+      keep = std::clamp(problem_.pairs + std::min(spare / 2, nconv_ + spare / 8), 1, m - 1);
       if (ritz_im_[keep - 1] > 0) keep = keep + 1 <= m - 1 ? keep + 1 : keep - 1;
     }
     algebra::times_small_leading(v_, u.columns(0, keep));
