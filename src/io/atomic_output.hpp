@@ -4,7 +4,8 @@
 // the rename stays on one file system) and refuses an output that is one of the
 // inputs. The caller writes the temporary file collectively, syncs it on every
 // rank and closes it (h5::Handle::sync_and_close_file for HDF5 files); commit()
-// then has rank 0 fsync it, rename it over the final name and fsync the directory. If commit() is never reached, the temporary file is removed.
+// then has rank 0 fsync it, rename it over the final name and fsync the
+// directory. If commit() is never reached, the temporary file is removed.
 #pragma once
 
 #include <mpi.h>

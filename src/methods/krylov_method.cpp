@@ -16,10 +16,10 @@
 // unconverged wanted ones out), and an eighth of the m-K spare columns as next-
 // most-wanted ones that steer convergence; never more than K plus half the spare.
 // The rest of the cycle adds new directions. The previous rule, K plus half the
-// spare from the start, took up to 2.3 times the matvecs (9 of 13 symmetric test
-// runs took more, the 4 with K = 2 up to 1.24 times fewer) and did not converge
-// within 30 000 on two of ten hard non-symmetric ones (docs/benchmarks.md,
-// "The Krylov restart").
+// spare from the start, took more matvecs in 9 of 13 symmetric test runs (up to
+// 2.3 times; in the 4 with K = 2 it took up to 1.24 times fewer) and did not
+// converge within 30 000 on two of ten hard non-symmetric ones
+// (docs/benchmarks.md, "The Krylov restart").
 //
 // Converged Schur vectors are kept at the front of the basis (they stay the most
 // wanted), not deflated. Extraction maps the leading K (K+1 for a pair) columns
